@@ -1,0 +1,115 @@
+package main
+
+import (
+	_ "embed"
+	"flag"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strconv"
+	"text/tabwriter"
+	"time"
+
+	"github.com/mirabilis-astro/mirabilis/model/config"
+	"github.com/mirabilis-astro/mirabilis/model/fit"
+	"github.com/mirabilis-astro/mirabilis/model/mock"
+)
+
+//go:embed demo/galaxy.toml
+var demoGalaxy []byte
+
+//go:embed demo/demo-fit.toml
+var demoFit []byte
+
+func init() {
+	register(&command{
+		Name:  "demo",
+		Usage: "[--out DIR] [--threads N] [--steps N] [--seed N]",
+		Short: "run the whole job on the built-in demo galaxy",
+		Long: `Demo runs the whole job with no input of yours. It writes the built-in demo galaxy —
+an invented four-armed spiral with arms named Corvid, Lantern, Tamarisk and Halcyon —
+and a fit configuration into DIR, draws a mock catalog of 150 sources from the galaxy
+("mirabilis simulate"), fits it ("mirabilis fit"), prints the posterior summary next
+to the true values, and writes the figures.
+
+DIR (default "mirabilis-demo") then holds galaxy.toml (the model with its true
+values and the mock survey), demo-fit.toml (the fit's configuration, priors and
+sampler settings), sources.csv and sources-truth.csv (the catalog and what the
+catalog does not say), and run/ (the run directory, see "mirabilis help fit").
+Running the demo again replaces that run. Edit demo-fit.toml and run
+"mirabilis fit DIR/demo-fit.toml --force" to try other settings.`,
+		SetFlags: func(fs *flag.FlagSet) {
+			fs.String("out", "mirabilis-demo", "folder for the demo's files")
+			fs.Int("threads", 0, "goroutines evaluating the likelihood (0 = all cores)")
+			fs.Int("steps", 0, "total chain length (default: the demo configuration's)")
+			fs.String("seed", "", "seed of the sampler (default: the demo configuration's)")
+		},
+		Run: runDemo,
+	})
+}
+
+func runDemo(env *runEnv, args []string) error {
+	if len(args) > 0 {
+		return usageErrorf("unexpected argument %q", args[0])
+	}
+	began := time.Now()
+	dir := env.flags.Lookup("out").Value.String()
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return err
+	}
+	galaxyPath := filepath.Join(dir, "galaxy.toml")
+	fitPath := filepath.Join(dir, "demo-fit.toml")
+	for _, f := range []struct {
+		path string
+		data []byte
+	}{{galaxyPath, demoGalaxy}, {fitPath, demoFit}} {
+		if err := fit.WriteFileAtomic(f.path, f.data); err != nil {
+			return err
+		}
+	}
+	m, err := mock.Load(galaxyPath)
+	if err != nil {
+		return err
+	}
+	catPath := filepath.Join(dir, "sources.csv")
+	n, err := simulateTo(m, nil, catPath, filepath.Join(dir, "sources-truth.csv"), env)
+	if err != nil {
+		return err
+	}
+	fmt.Fprintf(env.stderr, "Drew %d mock sources from the demo galaxy into %s\n", n, catPath)
+	cfg, err := config.Load(fitPath)
+	if err != nil {
+		return err
+	}
+	seed, err := seedFlag(env)
+	if err != nil {
+		return err
+	}
+	opts := fit.Options{Force: true, Seed: seed}
+	opts.Threads, _ = strconv.Atoi(env.flags.Lookup("threads").Value.String())
+	opts.Steps, _ = strconv.Atoi(env.flags.Lookup("steps").Value.String())
+	out, err := fitAndReport(env, cfg, opts)
+	if err != nil {
+		return err
+	}
+	if out.Summary == nil {
+		return fmt.Errorf("the demo fit stopped before its end")
+	}
+	fmt.Fprintln(env.stdout, "\nThe demo galaxy's true values against the posterior:")
+	tw := tabwriter.NewWriter(env.stdout, 0, 0, 2, ' ', tabwriter.AlignRight)
+	fmt.Fprintln(tw, "parameter\ttruth\tmedian\t68% interval\twithin 95%\t")
+	for _, q := range out.Summary.Params {
+		t, ok := m.Truth[q.Name]
+		if !ok {
+			continue
+		}
+		in := "no"
+		if t >= q.Lo95 && t <= q.Hi95 {
+			in = "yes"
+		}
+		fmt.Fprintf(tw, "%s\t%.4g\t%.4g\t[%.4g, %.4g]\t%s\t\n", q.Name, t, q.Median, q.Lo68, q.Hi68, in)
+	}
+	tw.Flush()
+	fmt.Fprintf(env.stdout, "\nDemo finished in %s.\n", time.Since(began).Round(time.Second))
+	return nil
+}

@@ -1,0 +1,202 @@
+package main
+
+import (
+	"flag"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"strconv"
+	"time"
+
+	"golang.org/x/term"
+
+	"github.com/mirabilis-astro/mirabilis/mcmc"
+	"github.com/mirabilis-astro/mirabilis/model/config"
+	"github.com/mirabilis-astro/mirabilis/model/fit"
+)
+
+func init() {
+	register(&command{
+		Name:  "fit",
+		Usage: "CONFIG.toml [--out DIR] [--seed N] [--threads N] [--steps N] [--resume] [--force] [--time DURATION]",
+		Short: "fit the joint model to a catalog",
+		Long: `Fit reads the run configuration CONFIG.toml (see "mirabilis help config") and the
+catalog it names, checks both completely, and then fits the joint model — spiral arms,
+rotation curve, the Sun's motion, the sources' mean motion and every source's arm
+membership, with each source's distance integrated out — by sampling the posterior
+with an affine-invariant ensemble sampler.
+
+First each source's distance quadrature is laid out at pilot parameter sets and the
+maximum a posteriori point is found; then the walkers start around it. Progress is
+shown on the terminal (step, acceptance, autocorrelation time, time left), as plain
+lines when the output is not a terminal.
+
+Everything goes to the run directory (the configuration's output, or --out):
+  config.toml     the resolved configuration, every default written out; it can be
+                  given to fit as it is
+  run.json        the state of the run and the hashes of its configuration and catalog
+  pilot.json      the maximum a posteriori point and the quadrature statistics
+  chain.csv       the chain: step, walker, log_density, then one column per sampled
+                  coordinate (free parameters; stick_k for the membership fractions)
+  checkpoint.bin  the sampler's state and the quadratures, for --resume
+  log.txt         what the run reported
+  summary.txt, summary.json, sources.csv, figures/   when the run ends
+
+A run directory holding a finished run is not overwritten without --force. A run
+that was stopped (Ctrl-C, --time, a killed job) continues with --resume exactly as
+if it had never stopped; --steps N is the chain's total length, so a run stopped
+at step 17 and resumed with --steps 40 ends exactly as a run of 40 would. Resuming
+is refused if the configuration or the catalog changed.
+
+The same seed gives the same chain, whatever the number of threads.`,
+		SetFlags: func(fs *flag.FlagSet) {
+			fs.String("out", "", "run directory (default: the configuration's output)")
+			fs.String("seed", "", "seed of the random streams (default: the configuration's)")
+			fs.Int("threads", 0, "goroutines evaluating the likelihood (default: the configuration's, 0 = all cores)")
+			fs.Int("steps", 0, "total chain length (default: the configuration's)")
+			fs.Bool("resume", false, "continue the stopped run in the run directory")
+			fs.Bool("force", false, "replace a run directory that holds a run")
+			fs.Duration("time", 0, "stop cleanly after this long (e.g. 2h30m), leaving a run to --resume")
+		},
+		Run: runFit,
+	})
+	registerTopic(&topic{Name: "config", Short: "the run configuration (TOML)", Text: func() string { return config.HelpText }})
+}
+
+func fitOptions(env *runEnv) (fit.Options, error) {
+	var o fit.Options
+	seed, err := seedFlag(env)
+	if err != nil {
+		return o, err
+	}
+	o.Seed = seed
+	o.Out = env.flags.Lookup("out").Value.String()
+	o.Threads, _ = strconv.Atoi(env.flags.Lookup("threads").Value.String())
+	o.Steps, _ = strconv.Atoi(env.flags.Lookup("steps").Value.String())
+	if o.Threads < 0 || o.Steps < 0 {
+		return o, usageErrorf("--threads and --steps must not be negative")
+	}
+	o.Resume = env.flags.Lookup("resume").Value.String() == "true"
+	o.Force = env.flags.Lookup("force").Value.String() == "true"
+	if o.Resume && o.Force {
+		return o, usageErrorf("--resume and --force exclude each other")
+	}
+	o.MaxDuration, _ = time.ParseDuration(env.flags.Lookup("time").Value.String())
+	return o, nil
+}
+
+func runFit(env *runEnv, args []string) error {
+	if len(args) != 1 {
+		return usageErrorf("want exactly one configuration file, got %d arguments", len(args))
+	}
+	opts, err := fitOptions(env)
+	if err != nil {
+		return err
+	}
+	cfg, err := config.Load(args[0])
+	if err != nil {
+		return err
+	}
+	out, err := fitAndReport(env, cfg, opts)
+	if err != nil {
+		return err
+	}
+	if out.Summary == nil {
+		fmt.Fprintf(env.stdout, "The run stopped at step %d; continue it with\n\tmirabilis fit %s --resume --out %s\n", out.Result.Step, args[0], out.Dir)
+	}
+	return nil
+}
+
+// fitAndReport runs a fit with progress on stderr, then writes the figures and prints the
+// summary.
+func fitAndReport(env *runEnv, cfg *config.Config, opts fit.Options) (*fit.Outcome, error) {
+	pr := newProgress(env.stderr)
+	opts.Progress = pr.update
+	opts.Log = pr
+	out, err := fit.Fit(env.ctx, cfg, opts)
+	pr.finish()
+	if err != nil {
+		return nil, err
+	}
+	if out.Summary == nil {
+		return out, nil
+	}
+	figs, err := writeFigures(out)
+	if err != nil {
+		fmt.Fprintf(env.stderr, "warning: figures: %v\n", err)
+	}
+	fmt.Fprintln(env.stdout, out.Summary.Text())
+	fmt.Fprintf(env.stdout, "Run directory: %s\n", out.Dir)
+	if len(figs) > 0 {
+		fmt.Fprintf(env.stdout, "Figures:\n")
+		for _, f := range figs {
+			fmt.Fprintf(env.stdout, "  %s\n", f)
+		}
+	}
+	return out, nil
+}
+
+// progress renders the sampler's progress: one line redrawn in place on a terminal, a
+// line every few seconds otherwise. It also passes log messages through, clearing the
+// progress line first.
+type progress struct {
+	w        io.Writer
+	tty      bool
+	last     time.Time
+	drawn    bool
+	lastLine string
+}
+
+func newProgress(w io.Writer) *progress {
+	p := &progress{w: w}
+	if f, ok := w.(*os.File); ok && term.IsTerminal(int(f.Fd())) {
+		p.tty = true
+	}
+	return p
+}
+
+func (p *progress) Write(b []byte) (int, error) {
+	p.clear()
+	return p.w.Write(b)
+}
+
+func (p *progress) clear() {
+	if p.tty && p.drawn {
+		fmt.Fprint(p.w, "\r\033[K")
+		p.drawn = false
+	}
+}
+
+func (p *progress) update(pg mcmc.Progress) {
+	tau := "τ –"
+	if !math.IsNaN(pg.Tau) {
+		tau = fmt.Sprintf("τ %.0f", pg.Tau)
+	}
+	eta := ""
+	if pg.ETA >= 0 {
+		eta = " · left " + pg.ETA.Round(time.Second).String()
+	}
+	total := ""
+	if pg.Steps > 0 {
+		total = fmt.Sprintf("/%d", pg.Steps)
+	}
+	line := fmt.Sprintf("step %d%s · acceptance %.2f · %s · %.1f steps/s%s", pg.Step, total, pg.Acceptance, tau, pg.StepsPerSecond, eta)
+	p.lastLine = line
+	if p.tty {
+		fmt.Fprint(p.w, "\r\033[K"+line)
+		p.drawn = true
+		return
+	}
+	if pg.Done || time.Since(p.last) > 10*time.Second {
+		fmt.Fprintln(p.w, line)
+		p.last = time.Now()
+	}
+}
+
+func (p *progress) finish() {
+	if p.tty && p.drawn {
+		fmt.Fprintln(p.w)
+		p.drawn = false
+	}
+}

@@ -1,0 +1,232 @@
+package main
+
+import (
+	"encoding/csv"
+	"encoding/json"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"strconv"
+	"strings"
+
+	"github.com/mirabilis-astro/mirabilis/model"
+)
+
+func init() {
+	register(&command{
+		Name:  "predict",
+		Usage: "--params PARAMS.json --at POINTS.csv [--format csv|json] [--core-radius KPC]",
+		Short: "predict what sources at given places would be seen to do",
+		Long: `Predict computes, for a parameter set and a list of places in the Galaxy, what a
+source at each place would be seen to do if it moved exactly with the model: its
+Galactocentric radius and azimuth, the circular speed there, its proper motions in
+equatorial and Galactic coordinates and its line-of-sight velocity, heliocentric and
+in the radio LSR (see "mirabilis help params" for the parameter file).
+
+POINTS.csv is a CSV file with a header row and the columns l,b (deg, Galactic) or
+ra,dec (deg, ICRS), and distance (kpc); a name column is optional. Lines starting
+with # are comments.
+
+The output has one row (csv) or one object (json) per point with the keys
+  name, l, b, ra, dec (deg), distance (kpc), R (kpc), beta (deg), theta (km/s),
+  pmra, pmdec, pml, pmb (mas/yr; pmra = μα cos δ, pml = μl cos b),
+  vhelio, vlsr (km/s).`,
+		SetFlags: func(fs *flag.FlagSet) {
+			fs.String("params", "", "parameter values, a JSON object keyed by name (required)")
+			fs.String("at", "", "the places: CSV with l,b or ra,dec and distance (required)")
+			fs.String("format", "csv", "output format: csv or json")
+			fs.Float64("core-radius", model.DefaultCoreRadius, "radius (kpc) inside which the rotation rises as a solid body")
+		},
+		Run: runPredict,
+	})
+	registerTopic(&topic{Name: "params", Short: "parameter files (JSON) and parameter names", Text: func() string { return paramsHelp }})
+}
+
+const paramsHelp = `A parameter file is a JSON object of parameter values keyed by name, for
+example
+
+	{"R0": 8.15, "Theta0": 236, "dTheta_dR": -0.5,
+	 "Usun": 10.6, "Vsun": 10.7, "Wsun": 7.6, "Us": 0, "Vs": -4, "Ws": 0,
+	 "sigma_vir": 5}
+
+It is read by "mirabilis predict" and "mirabilis eval". The names are those of the
+run configuration, the chain file and the summaries:
+
+  R0            kpc        distance of the Sun from the Galactic centre
+  Theta0        km/s       circular speed at R0 (linear and power curves)
+  dTheta_dR     km/s/kpc   slope of the linear rotation curve
+  alpha                    exponent of the power-law rotation curve
+  Theta_1 …     km/s       speeds at the node radii of the nodes curve
+  Usun Vsun Wsun km/s      the Sun's motion relative to circular rotation:
+                           toward the centre, along rotation, toward the NGP
+  Us Vs Ws      km/s       the sources' mean peculiar motion, same axes
+  sigma_vir     km/s       the sources' velocity scatter about that mean
+  width_slope   kpc/kpc    growth of the arms' widths with radius
+  NAME_Rref     kpc        radius of arm NAME at its reference azimuth
+  NAME_pitch    deg        its pitch angle (below the kink, for a kinked arm)
+  NAME_pitch2   deg        its pitch angle beyond the kink
+  NAME_kink     deg        the azimuth of its kink
+  NAME_width    kpc        its width at R0
+  f_field, f_NAME          membership fractions of the field and each arm
+
+The rotation-curve family is told by the names present: dTheta_dR for the
+linear curve, alpha for the power law, Theta_1 … for the nodes curve. Derived
+quantities reported in summaries: Omega_sun = (Theta0 + Vsun)/R0,
+Theta0_over_R0, Theta0_plus_Vsun, Oort_A, Oort_B (km/s/kpc), NAME_Rsun (kpc,
+where arm NAME crosses the line from the centre through the Sun).`
+
+// point is one place at which to predict.
+type point struct {
+	name     string
+	sight    model.Sightline
+	distance float64
+}
+
+var predictKeys = []string{"name", "l", "b", "ra", "dec", "distance", "R", "beta", "theta",
+	"pmra", "pmdec", "pml", "pmb", "vhelio", "vlsr"}
+
+func runPredict(env *runEnv, args []string) error {
+	if len(args) > 0 {
+		return usageErrorf("unexpected argument %q", args[0])
+	}
+	get := func(n string) string { return env.flags.Lookup(n).Value.String() }
+	paramsPath, atPath, format := get("params"), get("at"), get("format")
+	if paramsPath == "" || atPath == "" {
+		return usageErrorf("--params and --at are both required")
+	}
+	if format != "csv" && format != "json" {
+		return usageErrorf("--format %q: want csv or json", format)
+	}
+	rcore, _ := strconv.ParseFloat(get("core-radius"), 64)
+	values, err := model.ReadParamValues(paramsPath)
+	if err != nil {
+		return err
+	}
+	motion, _, err := model.MotionFromParams(values, model.CurveSettings{RCore: rcore})
+	if err != nil {
+		return fmt.Errorf("%s: %w", paramsPath, err)
+	}
+	points, err := readPoints(atPath)
+	if err != nil {
+		return err
+	}
+	rows := make([][]float64, len(points))
+	for i, p := range points {
+		pr := motion.Predict(&p.sight, p.distance)
+		ra, dec := model.GalacticToICRS(p.sight.LDeg(), p.sight.BDeg())
+		rows[i] = []float64{p.sight.LDeg(), p.sight.BDeg(), ra, dec, p.distance, pr.R, pr.Beta() * 180 / math.Pi, pr.Theta,
+			pr.MuAlphaStar, pr.MuDelta, pr.MuLStar, pr.MuB, pr.VHelio, pr.VLSR}
+	}
+	if format == "json" {
+		out := make([]map[string]any, len(points))
+		for i, p := range points {
+			o := map[string]any{"name": p.name}
+			for k, v := range rows[i] {
+				o[predictKeys[k+1]] = v
+			}
+			out[i] = o
+		}
+		enc := json.NewEncoder(env.stdout)
+		enc.SetIndent("", "  ")
+		return enc.Encode(out)
+	}
+	w := csv.NewWriter(env.stdout)
+	w.Write(predictKeys)
+	for i, p := range points {
+		rec := []string{p.name}
+		for _, v := range rows[i] {
+			rec = append(rec, strconv.FormatFloat(v, 'g', 10, 64))
+		}
+		w.Write(rec)
+	}
+	w.Flush()
+	return w.Error()
+}
+
+// readPoints reads the places file of predict: CSV with a header naming l,b or ra,dec and
+// distance, and optionally name.
+func readPoints(path string) ([]point, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, fmt.Errorf("reading places: %w", err)
+	}
+	defer f.Close()
+	r := csv.NewReader(f)
+	r.Comment = '#'
+	r.TrimLeadingSpace = true
+	header, err := r.Read()
+	if err != nil {
+		if errors.Is(err, io.EOF) {
+			return nil, fmt.Errorf("%s: empty file: want a header row with l,b or ra,dec and distance", path)
+		}
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	col := map[string]int{}
+	for i, h := range header {
+		h = strings.ToLower(strings.TrimSpace(strings.TrimPrefix(h, "\ufeff")))
+		switch h {
+		case "name", "l", "b", "ra", "dec", "distance":
+			if _, dup := col[h]; dup {
+				return nil, fmt.Errorf("%s:1:%d: column %q appears twice", path, i+1, h)
+			}
+			col[h] = i
+		default:
+			return nil, fmt.Errorf("%s:1:%d: unknown column %q (want name, l, b, ra, dec, distance)", path, i+1, h)
+		}
+	}
+	_, hasL := col["l"]
+	_, hasB := col["b"]
+	_, hasRA := col["ra"]
+	_, hasDec := col["dec"]
+	_, hasD := col["distance"]
+	galactic := hasL && hasB
+	switch {
+	case !hasD:
+		return nil, fmt.Errorf("%s:1: missing column distance", path)
+	case galactic == (hasRA && hasDec) || hasL != hasB || hasRA != hasDec:
+		return nil, fmt.Errorf("%s:1: want exactly one position pair, l,b or ra,dec", path)
+	}
+	var out []point
+	var problems []string
+	for {
+		rec, err := r.Read()
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		if err != nil {
+			return nil, fmt.Errorf("%s: %w", path, err)
+		}
+		line, _ := r.FieldPos(0)
+		num := func(name string, lo, hi float64) float64 {
+			i := col[name]
+			v, err := strconv.ParseFloat(strings.TrimSpace(rec[i]), 64)
+			if err != nil || math.IsNaN(v) || math.IsInf(v, 0) || v < lo || v > hi {
+				problems = append(problems, fmt.Sprintf("%s:%d:%d (%s): value %q: want a number in [%g, %g]", path, line, i+1, name, rec[i], lo, hi))
+			}
+			return v
+		}
+		p := point{name: fmt.Sprintf("point-%d", len(out)+1)}
+		if i, ok := col["name"]; ok {
+			p.name = rec[i]
+		}
+		if galactic {
+			l, b := num("l", -360, 360), num("b", -90, 90)
+			p.sight = model.NewSightline(l, b)
+		} else {
+			ra, dec := num("ra", 0, 360), num("dec", -90, 90)
+			p.sight = model.NewSightlineICRS(ra, dec)
+		}
+		p.distance = num("distance", 1e-6, 1e3)
+		out = append(out, p)
+	}
+	if len(problems) > 0 {
+		return nil, fmt.Errorf("%d problem(s) in the places file:\n  %s", len(problems), strings.Join(problems, "\n  "))
+	}
+	if len(out) == 0 {
+		return nil, fmt.Errorf("%s: no places after the header", path)
+	}
+	return out, nil
+}

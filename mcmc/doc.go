@@ -1,0 +1,82 @@
+// Package mcmc samples a probability density over R^n with an
+// affine-invariant ensemble of walkers (Goodman & Weare 2010, Comm. App.
+// Math. Comp. Sci. 5, 65) and provides the diagnostics to judge the result.
+// It knows nothing of the models it samples.
+//
+// # Running
+//
+// A run is a Problem (a log-density and its dimension), a Start (a Gaussian
+// ball, a draw function, optionally centred on the maximum found by FindMAP)
+// and Settings (every field documented with its meaning and default):
+//
+//	res, err := mcmc.Run(ctx, mcmc.Problem{LogDensity: f, Dim: 3},
+//		mcmc.Start{Center: c, Scale: s},
+//		&mcmc.Settings{Seed: 7, Steps: 5000, Names: []string{"a", "b", "c"}})
+//
+// Each step moves the first half of the ensemble against the second and then
+// the second against the first; within a half the proposals are evaluated
+// concurrently by Settings.Threads goroutines. Moves sit behind the Move
+// interface: StretchMove (Goodman & Weare 2010), DifferentialMove (ter Braak
+// 2006, Stat. Comput. 16, 239) and WalkMove (Goodman & Weare 2010), mixed by
+// weight; the move of each step is drawn from a random stream of its own.
+// Every walker draws from its own PCG stream derived from the seed and its
+// index, so a run is the same bit for bit whatever the number of threads,
+// and a resumed run continues exactly as an uninterrupted one.
+//
+// A run stops after Settings.Steps steps (the total length of the chain), or
+// by the automatic rule (longer than TauFactor = 50 autocorrelation times,
+// which changed by less than 1% since the last check), or when its
+// wall-clock budget is used up, or when its context is cancelled; each way of
+// stopping leaves a checkpoint (when a checkpoint file is set) to resume from.
+//
+// # Chain file
+//
+// The chain is appended to a CSV file (comma-separated as in RFC 4180, but
+// with '\n' line ends; UTF-8; no quoting is ever needed, since parameter
+// names may not contain commas, quotes or line breaks) that any tool can
+// read:
+//
+//	# optional comment lines, each starting with '#', only at the top
+//	step,walker,log_density,NAME_1,...,NAME_n
+//	1,0,-3.2188758248682006,0.5,-1.25
+//	1,1,-2.772588722239781,0.25,0.75
+//	...
+//
+// step is the step number counted from 1 (only kept steps appear, every
+// Settings.Thin-th); walker is the walker's index from 0 to W−1;
+// log_density is the target's log-density at the position (natural log, up
+// to the target's additive constant, as the target returned it); then one
+// column per parameter, named by Settings.Names, in the target's own units.
+// There is one row per walker per kept step, walkers in order within a step,
+// steps increasing. Numbers are written in the shortest form that reads back
+// to the same float64, so a chain read back with ReadChain is identical to
+// the one in memory. The file is flushed and synced at every checkpoint;
+// rows after the last checkpoint may be lost or cut in a crash, and are cut
+// back when the run is resumed. Other tools read the file by skipping the
+// '#' lines, for example pandas.read_csv(path, comment="#") in Python or
+// read.csv(path, comment.char = "#") in R.
+//
+// # Checkpoints
+//
+// A checkpoint file holds everything a run needs to continue: positions,
+// log-densities, acceptance counts, every walker's random-stream state, the
+// move-choice stream, the step, the last autocorrelation estimate, the
+// settings that must not change (seed, walkers, dimension, thinning, names,
+// moves), the chain file's length and CRC-32C, and the caller's own bytes
+// (CheckpointReply.Extra). It is binary: the 8 bytes "MCMCCKPT", a
+// little-endian uint32 layout version, a uint64 payload length, the payload,
+// and a CRC-32C (Castagnoli) of all that precedes it. It is replaced
+// atomically (temporary file, fsync, rename). A truncated or corrupted
+// checkpoint, or a chain file that does not match its checkpoint, is refused
+// with an error naming the file.
+//
+// # Diagnostics
+//
+// Plain functions over slices: AutocorrFunc, EnsembleAutocorr,
+// IntegratedTime and AutocorrTime (Sokal's automatic window),
+// EffectiveSize, AcceptanceFractions, Quantile and Quantiles (weighted),
+// SplitRhat, BulkESS and TailESS (Vehtari et al. 2021, Bayesian Analysis 16,
+// 667), and FlagStuck. Summarize applies them to every parameter of a Chain.
+// A finished run is read back with ReadChainFile; runs are combined with
+// MergeChains and written with WriteChain.
+package mcmc

@@ -1,0 +1,267 @@
+package mcmc
+
+import (
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"strconv"
+	"sync"
+)
+
+// A Move proposes a new position for one walker of the ensemble.
+//
+// Propose writes the proposal into y (of the same length as x) for the walker
+// at x, given the positions of the walkers of the complementary half of the
+// ensemble (others, at least two, read only), drawing every random number from
+// src, the walker's own stream. It returns the logarithm of the factor that
+// multiplies the density ratio in the acceptance probability, so that the
+// proposal is accepted with probability
+//
+//	min(1, exp(logFactor) · p(y)/p(x)).
+//
+// For a symmetric proposal logFactor is 0; for the stretch move it is
+// (n−1)·ln z (Goodman & Weare 2010).
+//
+// Propose is called concurrently for different walkers, each call with its
+// own y and src, so it must not modify the Move, x or others.
+//
+// A checkpoint records each move's description (its String method if it has
+// one, else its printed value) and a resumed run must use moves with the
+// same descriptions; moves holding pointers should therefore have a String
+// method.
+type Move interface {
+	Propose(y, x []float64, others [][]float64, src *rand.Rand) (logFactor float64)
+}
+
+// WeightedMove is a Move with its relative weight in a mixture of moves.
+// The move of each step is chosen with probability proportional to Weight.
+type WeightedMove struct {
+	// Move is the proposal.
+	Move Move
+	// Weight is the move's relative weight, positive; a zero weight is taken as 1.
+	Weight float64
+}
+
+// moveChecker is implemented by the moves of this package so that a run can
+// refuse settings under which a move cannot work.
+type moveChecker interface {
+	check(dim, others int) error
+}
+
+// StretchMove is the affine-invariant stretch move of Goodman & Weare (2010,
+// Comm. App. Math. Comp. Sci. 5, 65): a partner X_j is drawn from the
+// other half and the proposal is Y = X_j + z (X − X_j), with z drawn from
+// g(z) ∝ 1/√z on [1/a, a].
+type StretchMove struct {
+	// A is the scale a > 1 of the stretch; zero means 2, the value
+	// Goodman & Weare recommend.
+	A float64
+}
+
+func (m StretchMove) scale() float64 {
+	if m.A == 0 {
+		return 2
+	}
+	return m.A
+}
+
+// Propose implements Move.
+func (m StretchMove) Propose(y, x []float64, others [][]float64, src *rand.Rand) float64 {
+	a := m.scale()
+	// Inverse of the cumulative distribution of g(z) ∝ 1/√z on [1/a, a].
+	u := src.Float64()
+	s := (a-1)*u + 1
+	z := s * s / a
+	xj := others[src.IntN(len(others))]
+	for i := range y {
+		y[i] = xj[i] + z*(x[i]-xj[i])
+	}
+	return float64(len(x)-1) * math.Log(z)
+}
+
+func (m StretchMove) check(dim, others int) error {
+	if a := m.scale(); !(a > 1) || math.IsInf(a, 0) {
+		return fmt.Errorf("stretch move: scale a = %v, want a finite value above 1", m.A)
+	}
+	return nil
+}
+
+// String describes the move and its settings, with defaults filled in.
+func (m StretchMove) String() string {
+	return "stretch(a=" + strconv.FormatFloat(m.scale(), 'g', -1, 64) + ")"
+}
+
+// DifferentialMove is the differential-evolution move of ter Braak (2006,
+// Stat. Comput. 16, 239): two distinct walkers X_j, X_k are drawn from the
+// other half and the proposal is Y = X + γ (X_j − X_k). The proposal is
+// symmetric.
+type DifferentialMove struct {
+	// Gamma is the scale γ of the difference vector; zero means
+	// 2.38/√(2n) for n parameters, ter Braak's choice for Gaussian targets.
+	Gamma float64
+	// Jitter is the relative spread of γ: each proposal uses
+	// γ·(1 + Jitter·ξ) with ξ standard normal, which keeps the move from
+	// repeating the same finite set of steps. Zero means 1e-4; a negative
+	// value turns the jitter off.
+	Jitter float64
+	// JumpProbability is the probability of using γ = 1 instead, which lets
+	// walkers jump between separated modes of equal shape (ter Braak 2006,
+	// 2006). Zero, the default, never jumps.
+	JumpProbability float64
+}
+
+func (m DifferentialMove) gamma(dim int) float64 {
+	if m.Gamma == 0 {
+		return 2.38 / math.Sqrt(2*float64(dim))
+	}
+	return m.Gamma
+}
+
+func (m DifferentialMove) jitter() float64 {
+	switch {
+	case m.Jitter == 0:
+		return 1e-4
+	case m.Jitter < 0:
+		return 0
+	}
+	return m.Jitter
+}
+
+// Propose implements Move.
+func (m DifferentialMove) Propose(y, x []float64, others [][]float64, src *rand.Rand) float64 {
+	n := len(others)
+	j := src.IntN(n)
+	k := src.IntN(n - 1)
+	if k >= j {
+		k++
+	}
+	g := m.gamma(len(x))
+	if m.JumpProbability > 0 && src.Float64() < m.JumpProbability {
+		g = 1
+	}
+	if s := m.jitter(); s > 0 {
+		g *= 1 + s*src.NormFloat64()
+	}
+	xj, xk := others[j], others[k]
+	for i := range y {
+		y[i] = x[i] + g*(xj[i]-xk[i])
+	}
+	return 0
+}
+
+func (m DifferentialMove) check(dim, others int) error {
+	if g := m.gamma(dim); !(g > 0) || math.IsInf(g, 0) {
+		return fmt.Errorf("differential-evolution move: gamma = %v, want a finite positive value", m.Gamma)
+	}
+	if math.IsNaN(m.Jitter) || math.IsInf(m.Jitter, 0) {
+		return fmt.Errorf("differential-evolution move: jitter = %v, want a finite value", m.Jitter)
+	}
+	if !(m.JumpProbability >= 0 && m.JumpProbability <= 1) {
+		return fmt.Errorf("differential-evolution move: jump probability = %v, want a value in [0, 1]", m.JumpProbability)
+	}
+	if others < 2 {
+		return fmt.Errorf("differential-evolution move: needs at least 2 walkers in each half, have %d", others)
+	}
+	return nil
+}
+
+// String describes the move and its settings, with defaults filled in.
+func (m DifferentialMove) String() string {
+	g := "2.38/sqrt(2n)"
+	if m.Gamma != 0 {
+		g = strconv.FormatFloat(m.Gamma, 'g', -1, 64)
+	}
+	return fmt.Sprintf("differential(gamma=%s,jitter=%s,jump=%s)", g,
+		strconv.FormatFloat(m.jitter(), 'g', -1, 64),
+		strconv.FormatFloat(m.JumpProbability, 'g', -1, 64))
+}
+
+// WalkMove is the walk move of Goodman & Weare (2010): a subset S of
+// the other half is drawn without replacement and the proposal is
+//
+//	Y = X + Σ_{j∈S} Z_j (X_j − X̄_S),
+//
+// with Z_j independent standard normal and X̄_S the mean of the subset, so
+// the step has the covariance of the subset. The proposal is symmetric.
+type WalkMove struct {
+	// Subset is the number of walkers |S| ≥ 2 in each subset; zero means the
+	// whole other half.
+	Subset int
+}
+
+// walkScratch holds per-call work space of the walk move (chosen indices and
+// their normal deviates); pooled so that steady-state sampling allocates nothing.
+var walkScratch = sync.Pool{New: func() any { return new([]float64) }}
+
+// Propose implements Move.
+func (m WalkMove) Propose(y, x []float64, others [][]float64, src *rand.Rand) float64 {
+	n := len(others)
+	s := m.Subset
+	if s == 0 || s > n {
+		s = n
+	}
+	bufp := walkScratch.Get().(*[]float64)
+	if cap(*bufp) < 2*s {
+		*bufp = make([]float64, 2*s)
+	}
+	buf := (*bufp)[:2*s]
+	idx, z := buf[:s], buf[s:]
+	// Selection sampling (Knuth, TAOCP vol. 2, §3.4.2, Algorithm S):
+	// each of the n walkers is kept with probability (needed)/(remaining).
+	if s == n {
+		for j := range idx {
+			idx[j] = float64(j)
+		}
+	} else {
+		chosen := 0
+		for j := 0; j < n && chosen < s; j++ {
+			if float64(n-j)*src.Float64() < float64(s-chosen) {
+				idx[chosen] = float64(j)
+				chosen++
+			}
+		}
+	}
+	// Σ Z_j (X_j − X̄) = Σ (Z_j − Z̄) X_j.
+	var zbar float64
+	for j := range z {
+		z[j] = src.NormFloat64()
+		zbar += z[j]
+	}
+	zbar /= float64(s)
+	copy(y, x)
+	for j := range idx {
+		w := z[j] - zbar
+		xj := others[int(idx[j])]
+		for i := range y {
+			y[i] += w * xj[i]
+		}
+	}
+	walkScratch.Put(bufp)
+	return 0
+}
+
+func (m WalkMove) check(dim, others int) error {
+	if m.Subset < 0 || m.Subset == 1 {
+		return fmt.Errorf("walk move: subset size %d, want 0 (whole half) or at least 2", m.Subset)
+	}
+	if m.Subset > others {
+		return fmt.Errorf("walk move: subset size %d exceeds the %d walkers of each half", m.Subset, others)
+	}
+	return nil
+}
+
+// String describes the move and its settings, with defaults filled in.
+func (m WalkMove) String() string {
+	if m.Subset == 0 {
+		return "walk(subset=half)"
+	}
+	return "walk(subset=" + strconv.Itoa(m.Subset) + ")"
+}
+
+// describeMove names a move and its settings for the compatibility check on resume.
+func describeMove(m Move) string {
+	if s, ok := m.(fmt.Stringer); ok {
+		return s.String()
+	}
+	return fmt.Sprintf("%T%+v", m, m)
+}

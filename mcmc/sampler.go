@@ -1,0 +1,822 @@
+package mcmc
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io/fs"
+	"math"
+	"math/rand/v2"
+	"os"
+	"strconv"
+	"strings"
+	"sync"
+	"sync/atomic"
+	"time"
+)
+
+// Status says why a run stopped.
+type Status int
+
+const (
+	// StepLimit means the chain reached Settings.Steps.
+	StepLimit Status = iota + 1
+	// Converged means the automatic stopping rule was met.
+	Converged
+	// TimeLimit means the wall-clock budget was used up.
+	TimeLimit
+	// Cancelled means the context was cancelled.
+	Cancelled
+)
+
+// String names the status.
+func (s Status) String() string {
+	switch s {
+	case StepLimit:
+		return "step limit reached"
+	case Converged:
+		return "converged"
+	case TimeLimit:
+		return "time budget used up"
+	case Cancelled:
+		return "cancelled"
+	}
+	return fmt.Sprintf("Status(%d)", int(s))
+}
+
+// Result is the outcome of a run.
+type Result struct {
+	// Chain holds every kept step of the whole run (including the part
+	// before a resume).
+	Chain *Chain
+	// Step is the number of steps taken.
+	Step int
+	// Status says why the run stopped.
+	Status Status
+	// Accepted counts each walker's accepted proposals over the whole run.
+	Accepted []int
+	// Positions and LogDensity are the walkers' final state.
+	Positions  [][]float64
+	LogDensity []float64
+	// Tau is the integrated autocorrelation time of each parameter, in
+	// steps, estimated from the whole chain at the end; NaN if the chain is
+	// too short or constant.
+	Tau []float64
+	// TauReliable is true when every τ came from a complete Sokal window
+	// and the chain is longer than TauFactor·max τ.
+	TauReliable bool
+	// Stuck lists walkers that appear stuck (see FlagStuck), judged on the
+	// acceptance over the whole run and the later half of the chain.
+	Stuck []StuckWalker
+	// Extra holds the caller's bytes from the last checkpoint.
+	Extra []byte
+	// MAP is the result of the MAP search when Start.FindMAP was set (nil
+	// otherwise, and after a resume).
+	MAP *MAPResult
+}
+
+// AcceptanceFraction returns each walker's acceptance fraction.
+func (r *Result) AcceptanceFraction() []float64 {
+	return AcceptanceFractions(r.Accepted, r.Step)
+}
+
+// MeanAcceptance returns the ensemble's acceptance fraction.
+func (r *Result) MeanAcceptance() float64 {
+	if r.Step == 0 || len(r.Accepted) == 0 {
+		return 0
+	}
+	var a int
+	for _, v := range r.Accepted {
+		a += v
+	}
+	return float64(a) / float64(r.Step*len(r.Accepted))
+}
+
+// Run samples the problem's log-density with an ensemble of walkers (Goodman
+// & Weare 2010, Comm. App. Math. Comp. Sci. 5, 65): each step moves the first
+// half of the ensemble against the second, then the second against the
+// first, with the move of the step drawn from the settings' mixture. A nil
+// settings means defaults, which lack a stopping rule, so in practice
+// settings are always given.
+//
+// The run stops at Settings.Steps, by the automatic rule, when the time
+// budget is used up or when ctx is cancelled; the last two write a
+// checkpoint and return a Result with the corresponding Status and no error.
+// Errors (bad settings, a NaN log-density, a failing file) come with
+// context; the run then stops without a final checkpoint, and a resume
+// continues from the last one.
+func Run(ctx context.Context, p Problem, start Start, settings *Settings) (*Result, error) {
+	if settings == nil {
+		settings = &Settings{}
+	}
+	if p.LogDensity == nil {
+		return nil, errors.New("mcmc: the problem has no log-density")
+	}
+	if p.Dim < 1 {
+		return nil, fmt.Errorf("mcmc: dimension %d, want at least 1", p.Dim)
+	}
+	set, err := settings.filled(p.Dim)
+	if err != nil {
+		return nil, fmt.Errorf("mcmc: settings: %w", err)
+	}
+	s := newSampler(p, set)
+	defer s.close()
+
+	resume := false
+	if set.Resume {
+		_, err := os.Stat(set.CheckpointPath)
+		switch {
+		case err == nil:
+			resume = true
+		case !errors.Is(err, fs.ErrNotExist):
+			return nil, fmt.Errorf("mcmc: %w", err)
+		}
+	}
+	if resume {
+		err = s.restore()
+	} else {
+		err = s.begin(start)
+	}
+	if err != nil {
+		return nil, fmt.Errorf("mcmc: %w", err)
+	}
+	if err := s.loop(ctx); err != nil {
+		return nil, fmt.Errorf("mcmc: %w", err)
+	}
+	return s.result(), nil
+}
+
+// sampler is the state of one run.
+type sampler struct {
+	p   Problem
+	set Settings
+	dim int
+	nw  int
+
+	pos      [][]float64 // [walker][parameter]
+	lp       []float64
+	accepted []int
+	streams  []*rand.PCG
+	rands    []*rand.Rand
+	moveSrc  *rand.PCG
+	moveRand *rand.Rand
+	cumW     []float64 // cumulative move weights, normalised
+
+	step      int
+	lastTau   []float64
+	converged bool
+	status    Status
+	extra     []byte
+	mapRes    *MAPResult
+
+	chain  *Chain
+	slab   []float64   // spare storage for kept positions
+	hslab  [][]float64 // spare row headers
+	lpslab []float64
+	cw     *chainWriter
+
+	pool    *pool
+	scratch [][]float64 // one proposal buffer per worker
+	errs    []error     // per walker, filled by workers
+
+	// per-half-step arguments of advance
+	move    Move
+	first   int
+	others  [][]float64
+	halves  [2][][]float64
+	advance func(worker, k int)
+}
+
+func newSampler(p Problem, set Settings) *sampler {
+	s := &sampler{p: p, set: set, dim: p.Dim, nw: set.Walkers}
+	flat := make([]float64, s.nw*s.dim)
+	s.pos = make([][]float64, s.nw)
+	for i := range s.pos {
+		s.pos[i] = flat[i*s.dim : (i+1)*s.dim : (i+1)*s.dim]
+	}
+	s.lp = make([]float64, s.nw)
+	s.accepted = make([]int, s.nw)
+	s.streams = make([]*rand.PCG, s.nw)
+	s.rands = make([]*rand.Rand, s.nw)
+	for i := range s.streams {
+		s.streams[i] = newStream(set.Seed, uint64(i))
+		s.rands[i] = rand.New(s.streams[i])
+	}
+	s.moveSrc = newStream(set.Seed, moveStreamTag)
+	s.moveRand = rand.New(s.moveSrc)
+	var total float64
+	for _, m := range set.Moves {
+		total += m.Weight
+	}
+	var c float64
+	for _, m := range set.Moves {
+		c += m.Weight / total
+		s.cumW = append(s.cumW, c)
+	}
+	half := s.nw / 2
+	s.halves = [2][][]float64{s.pos[:half], s.pos[half:]}
+	threads := min(set.Threads, s.nw)
+	s.pool = newPool(threads)
+	s.scratch = make([][]float64, threads)
+	for i := range s.scratch {
+		s.scratch[i] = make([]float64, s.dim)
+	}
+	s.errs = make([]error, s.nw)
+	s.advance = s.advanceWalker
+	s.chain = &Chain{Names: append([]string(nil), set.Names...)}
+	return s
+}
+
+func (s *sampler) close() {
+	s.pool.stop()
+	if s.cw != nil {
+		s.cw.close()
+		s.cw = nil
+	}
+}
+
+// eval evaluates the log-density, turning a panic into an error.
+func (s *sampler) eval(x []float64) (v float64, err error) {
+	defer func() {
+		if r := recover(); r != nil {
+			err = fmt.Errorf("log-density panicked: %v", r)
+		}
+	}()
+	return s.p.LogDensity(x), nil
+}
+
+// point formats a position with the parameter names, for error messages.
+func (s *sampler) point(x []float64) string {
+	var b strings.Builder
+	b.WriteByte('(')
+	for j, v := range x {
+		if j > 0 {
+			b.WriteString(", ")
+		}
+		b.WriteString(s.set.Names[j])
+		b.WriteByte('=')
+		b.WriteString(strconv.FormatFloat(v, 'g', -1, 64))
+	}
+	b.WriteByte(')')
+	return b.String()
+}
+
+// firstError returns the lowest-indexed walker error and clears them all.
+func (s *sampler) firstError() error {
+	var first error
+	for i, e := range s.errs {
+		if e != nil && first == nil {
+			first = e
+		}
+		s.errs[i] = nil
+	}
+	return first
+}
+
+// begin draws the starting ensemble, creates the chain file and writes the
+// checkpoint of step 0.
+func (s *sampler) begin(st Start) error {
+	draws := st.MaxDraws
+	if draws == 0 {
+		draws = 1000
+	}
+	if draws < 0 {
+		return fmt.Errorf("start: %d draws allowed, want a positive number", draws)
+	}
+	var center, scale []float64
+	if st.Draw == nil || st.FindMAP {
+		if len(st.Center) != s.dim || len(st.Scale) != s.dim {
+			return fmt.Errorf("start: centre has %d values and scale %d, want %d each", len(st.Center), len(st.Scale), s.dim)
+		}
+		for i, v := range st.Scale {
+			if !(v > 0) || math.IsInf(v, 0) {
+				return fmt.Errorf("start: scale of %s is %v, want a finite positive value", s.set.Names[i], v)
+			}
+			if math.IsNaN(st.Center[i]) || math.IsInf(st.Center[i], 0) {
+				return fmt.Errorf("start: centre of %s is %v, want a finite value", s.set.Names[i], st.Center[i])
+			}
+		}
+		center = append([]float64(nil), st.Center...)
+		scale = st.Scale
+	}
+	if st.FindMAP {
+		ms := MAPSettings{}
+		if st.MAP != nil {
+			ms = *st.MAP
+		}
+		if ms.Scale == nil {
+			ms.Scale = scale
+		}
+		res, err := FindMAP(s.p.LogDensity, center, &ms)
+		if err != nil {
+			return fmt.Errorf("start: %w", err)
+		}
+		s.mapRes = res
+		copy(center, res.X)
+	}
+	s.pool.run(s.nw, func(_, i int) {
+		x, r := s.pos[i], s.rands[i]
+		for try := 0; try < draws; try++ {
+			if st.Draw != nil {
+				st.Draw(i, x, r)
+			} else {
+				for j := range x {
+					x[j] = center[j] + scale[j]*r.NormFloat64()
+				}
+			}
+			v, err := s.eval(x)
+			switch {
+			case err != nil:
+				s.errs[i] = fmt.Errorf("start: walker %d at %s: %w", i, s.point(x), err)
+				return
+			case math.IsNaN(v) || math.IsInf(v, 1):
+				s.errs[i] = fmt.Errorf("start: walker %d: log-density is %v at %s", i, v, s.point(x))
+				return
+			case !math.IsInf(v, -1):
+				s.lp[i] = v
+				return
+			}
+		}
+		s.errs[i] = fmt.Errorf("start: walker %d found no point inside the support in %d draws (last %s)", i, draws, s.point(x))
+	})
+	if err := s.firstError(); err != nil {
+		return err
+	}
+	if s.set.ChainPath != "" {
+		cw, err := createChainFile(s.set.ChainPath, s.set.Comments, s.set.Names)
+		if err != nil {
+			return err
+		}
+		s.cw = cw
+	}
+	if s.set.CheckpointPath != "" || s.set.OnCheckpoint != nil {
+		return s.checkpoint(false)
+	}
+	return nil
+}
+
+// restore loads the checkpoint and the chain file.
+func (s *sampler) restore() error {
+	ck, err := LoadCheckpoint(s.set.CheckpointPath)
+	if err != nil {
+		return fmt.Errorf("resuming: %w", err)
+	}
+	moves, weights := s.set.moveDescriptions()
+	var diff string
+	switch {
+	case ck.Seed != s.set.Seed:
+		diff = fmt.Sprintf("seed %d, settings have %d", ck.Seed, s.set.Seed)
+	case ck.Walkers != s.nw:
+		diff = fmt.Sprintf("%d walkers, settings have %d", ck.Walkers, s.nw)
+	case ck.Dim != s.dim:
+		diff = fmt.Sprintf("%d parameters, the problem has %d", ck.Dim, s.dim)
+	case ck.Thin != s.set.Thin:
+		diff = fmt.Sprintf("thinning %d, settings have %d", ck.Thin, s.set.Thin)
+	case !equalStrings(ck.Names, s.set.Names):
+		diff = fmt.Sprintf("parameters %v, settings have %v", ck.Names, s.set.Names)
+	case !equalStrings(ck.Moves, moves) || !equalFloats(ck.Weights, weights):
+		diff = fmt.Sprintf("moves %v with weights %v, settings have %v with %v", ck.Moves, ck.Weights, moves, weights)
+	}
+	if diff != "" {
+		return fmt.Errorf("resuming: checkpoint %s was written with %s", s.set.CheckpointPath, diff)
+	}
+	for i := range s.pos {
+		copy(s.pos[i], ck.Positions[i])
+		s.lp[i] = ck.LogDensity[i]
+		s.accepted[i] = ck.Accepted[i]
+		if err := s.streams[i].UnmarshalBinary(ck.walkerStreams[i]); err != nil {
+			return fmt.Errorf("resuming: checkpoint %s: random stream of walker %d: %w", s.set.CheckpointPath, i, err)
+		}
+	}
+	if err := s.moveSrc.UnmarshalBinary(ck.moveStream); err != nil {
+		return fmt.Errorf("resuming: checkpoint %s: move-choice stream: %w", s.set.CheckpointPath, err)
+	}
+	s.step = ck.Step
+	s.lastTau = ck.LastTau
+	s.converged = ck.Converged
+	s.extra = ck.Extra
+	cw, chain, err := reopenChainFile(s.set.ChainPath, ck.ChainBytes, ck.ChainCRC)
+	if err != nil {
+		return err
+	}
+	s.cw = cw
+	if !equalStrings(chain.Names, s.set.Names) {
+		return fmt.Errorf("resuming: chain file %s has columns %v, want %v", s.set.ChainPath, chain.Names, s.set.Names)
+	}
+	if chain.Len() != ck.Kept || (chain.Len() > 0 && chain.Walkers() != s.nw) {
+		return fmt.Errorf("resuming: chain file %s holds %d steps of %d walkers, the checkpoint expects %d of %d", s.set.ChainPath, chain.Len(), chain.Walkers(), ck.Kept, s.nw)
+	}
+	s.chain = chain
+	return nil
+}
+
+func equalFloats(a, b []float64) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for i := range a {
+		if a[i] != b[i] {
+			return false
+		}
+	}
+	return true
+}
+
+// loop runs steps until a stopping rule holds.
+func (s *sampler) loop(ctx context.Context) error {
+	began := time.Now()
+	first := s.step
+	saved := true // the state at s.step is in a checkpoint (or needs none)
+	for {
+		var st Status
+		switch {
+		case s.set.Steps > 0 && s.step >= s.set.Steps:
+			st = StepLimit
+		case s.set.AutoStop && s.converged:
+			st = Converged
+		case ctx.Err() != nil:
+			st = Cancelled
+		case s.set.MaxDuration > 0 && s.step > first && time.Since(began) >= s.set.MaxDuration:
+			st = TimeLimit
+		}
+		if st != 0 {
+			s.status = st
+			if !saved {
+				if err := s.checkpoint(true); err != nil {
+					return err
+				}
+			} else if s.cw != nil {
+				if err := s.cw.sync(); err != nil {
+					return err
+				}
+			}
+			if s.set.Progress != nil {
+				s.set.Progress(s.progress(began, first, true))
+			}
+			return nil
+		}
+		if err := s.takeStep(); err != nil {
+			return err
+		}
+		saved = s.set.CheckpointPath == "" && s.set.OnCheckpoint == nil
+		if s.step%s.set.Thin == 0 {
+			if err := s.keep(); err != nil {
+				return err
+			}
+		}
+		if (s.set.AutoStop || s.set.Progress != nil) && s.step%s.set.TauEvery == 0 {
+			s.checkTau()
+		}
+		if s.step%s.set.CheckpointEvery == 0 && !saved {
+			if err := s.checkpoint(false); err != nil {
+				return err
+			}
+			saved = true
+		}
+		if s.set.Progress != nil && s.step%s.set.ProgressEvery == 0 {
+			s.set.Progress(s.progress(began, first, false))
+		}
+	}
+}
+
+// takeStep moves the first half of the ensemble against the second, then the
+// second against the first.
+func (s *sampler) takeStep() error {
+	u := s.moveRand.Float64()
+	k := 0
+	for k < len(s.cumW)-1 && u >= s.cumW[k] {
+		k++
+	}
+	s.move = s.set.Moves[k].Move
+	half := s.nw / 2
+	for h := 0; h < 2; h++ {
+		s.first = h * half
+		s.others = s.halves[1-h]
+		s.pool.run(half, s.advance)
+		if err := s.firstError(); err != nil {
+			return fmt.Errorf("step %d: %w", s.step+1, err)
+		}
+	}
+	s.step++
+	return nil
+}
+
+// advanceWalker proposes, evaluates and accepts or rejects a move of walker
+// s.first+k, using worker's proposal buffer.
+func (s *sampler) advanceWalker(worker, k int) {
+	i := s.first + k
+	x, r, y := s.pos[i], s.rands[i], s.scratch[worker]
+	logf := s.move.Propose(y, x, s.others, r)
+	if math.IsNaN(logf) {
+		s.errs[i] = fmt.Errorf("walker %d: move %s returned a NaN log-factor for the proposal %s", i, describeMove(s.move), s.point(y))
+		return
+	}
+	v, err := s.eval(y)
+	if err != nil {
+		s.errs[i] = fmt.Errorf("walker %d at %s: %w", i, s.point(y), err)
+		return
+	}
+	if math.IsNaN(v) || math.IsInf(v, 1) {
+		s.errs[i] = fmt.Errorf("walker %d: log-density is %v at %s", i, v, s.point(y))
+		return
+	}
+	if math.IsInf(v, -1) {
+		return
+	}
+	d := logf + v - s.lp[i]
+	if d < 0 && !(math.Log(r.Float64()) < d) {
+		return
+	}
+	copy(x, y)
+	s.lp[i] = v
+	s.accepted[i]++
+}
+
+// keep appends the current state to the chain in memory and the chain file.
+func (s *sampler) keep() error {
+	n := s.nw * s.dim
+	if len(s.slab) < n || len(s.hslab) < s.nw || len(s.lpslab) < s.nw {
+		rows := 256
+		if s.set.Steps > 0 {
+			rows = max(1, min(rows, (s.set.Steps-s.step)/s.set.Thin+1))
+		}
+		s.slab = make([]float64, rows*n)
+		s.hslab = make([][]float64, rows*s.nw)
+		s.lpslab = make([]float64, rows*s.nw)
+	}
+	row := s.hslab[:s.nw:s.nw]
+	s.hslab = s.hslab[s.nw:]
+	for i := range row {
+		row[i] = s.slab[:s.dim:s.dim]
+		s.slab = s.slab[s.dim:]
+		copy(row[i], s.pos[i])
+	}
+	lp := s.lpslab[:s.nw:s.nw]
+	s.lpslab = s.lpslab[s.nw:]
+	copy(lp, s.lp)
+	s.chain.X = append(s.chain.X, row)
+	s.chain.LogDensity = append(s.chain.LogDensity, lp)
+	s.chain.Step = append(s.chain.Step, s.step)
+	if s.cw != nil {
+		return s.cw.writeStep(s.step, s.pos, s.lp)
+	}
+	return nil
+}
+
+// tauCheckRows bounds the number of kept rows used for the autocorrelation
+// estimates during a run: longer chains are thinned for the estimate, which
+// keeps the checks cheap; an estimate from a chain thinned by f is reliable
+// while τ ≫ f and otherwise too large, so the stopping rule stays on the safe
+// side. The final estimate in the Result uses every row.
+const tauCheckRows = 1 << 14
+
+// estimateTau returns the autocorrelation time of every parameter in steps,
+// and whether every estimate had a complete window, using every f-th kept
+// row with f chosen so that at most maxRows rows are used (0: all rows).
+func (s *sampler) estimateTau(maxRows int) ([]float64, bool) {
+	tau := make([]float64, s.dim)
+	f := 1
+	if maxRows > 0 && s.chain.Len() > maxRows {
+		f = (s.chain.Len() + maxRows - 1) / maxRows
+	}
+	allOK := s.chain.Len() > 0
+	for j := range tau {
+		series := s.chain.Series(j, 0)
+		if f > 1 {
+			for k, x := range series {
+				m := 0
+				for t := f - 1; t < len(x); t += f {
+					x[m] = x[t]
+					m++
+				}
+				series[k] = x[:m]
+			}
+		}
+		t, ok := AutocorrTime(series, s.set.Window)
+		tau[j] = t * float64(s.set.Thin*f)
+		allOK = allOK && ok && !math.IsNaN(t)
+	}
+	return tau, allOK
+}
+
+// checkTau estimates the autocorrelation times and applies the automatic
+// stopping rule.
+func (s *sampler) checkTau() {
+	tau, ok := s.estimateTau(tauCheckRows)
+	conv := ok && s.lastTau != nil && len(s.lastTau) == len(tau)
+	var worst float64
+	for j, t := range tau {
+		worst = math.Max(worst, t)
+		if conv && !(math.Abs(s.lastTau[j]-t) < s.set.TauTolerance*t) {
+			conv = false
+		}
+	}
+	s.converged = conv && float64(s.step) > s.set.TauFactor*worst
+	s.lastTau = tau
+}
+
+// checkpoint calls the caller's hook, re-evaluates the walkers if the target
+// changed, syncs the chain file and writes the checkpoint file.
+func (s *sampler) checkpoint(final bool) error {
+	if s.set.OnCheckpoint != nil {
+		ev := CheckpointEvent{Step: s.step, Positions: make([][]float64, s.nw), LogDensity: append([]float64(nil), s.lp...), Final: final}
+		for i, x := range s.pos {
+			ev.Positions[i] = append([]float64(nil), x...)
+		}
+		reply, err := s.set.OnCheckpoint(ev)
+		if err != nil {
+			return fmt.Errorf("checkpoint at step %d: %w", s.step, err)
+		}
+		if reply.Extra != nil {
+			s.extra = append([]byte(nil), reply.Extra...)
+		}
+		if reply.TargetChanged {
+			s.pool.run(s.nw, func(_, i int) {
+				v, err := s.eval(s.pos[i])
+				switch {
+				case err != nil:
+					s.errs[i] = fmt.Errorf("walker %d at %s: %w", i, s.point(s.pos[i]), err)
+				case math.IsNaN(v) || math.IsInf(v, 0):
+					s.errs[i] = fmt.Errorf("walker %d: log-density is %v at %s", i, v, s.point(s.pos[i]))
+				default:
+					s.lp[i] = v
+				}
+			})
+			if err := s.firstError(); err != nil {
+				return fmt.Errorf("checkpoint at step %d: after the target changed: %w", s.step, err)
+			}
+		}
+	}
+	if s.cw != nil {
+		if err := s.cw.sync(); err != nil {
+			return err
+		}
+	}
+	if s.set.CheckpointPath == "" {
+		return nil
+	}
+	moves, weights := s.set.moveDescriptions()
+	ck := &Checkpoint{
+		Step: s.step, Seed: s.set.Seed, Walkers: s.nw, Dim: s.dim, Thin: s.set.Thin,
+		Names: s.set.Names, Moves: moves, Weights: weights,
+		Positions: s.pos, LogDensity: s.lp, Accepted: s.accepted,
+		Kept: s.chain.Len(), LastTau: s.lastTau, Extra: s.extra,
+		Converged: s.converged,
+	}
+	if s.cw != nil {
+		ck.ChainBytes, ck.ChainCRC = s.cw.size, s.cw.crc
+	}
+	for _, p := range s.streams {
+		b, err := p.MarshalBinary()
+		if err != nil {
+			return fmt.Errorf("checkpoint at step %d: %w", s.step, err)
+		}
+		ck.walkerStreams = append(ck.walkerStreams, b)
+	}
+	b, err := s.moveSrc.MarshalBinary()
+	if err != nil {
+		return fmt.Errorf("checkpoint at step %d: %w", s.step, err)
+	}
+	ck.moveStream = b
+	if err := writeFileAtomic(s.set.CheckpointPath, ck.encode()); err != nil {
+		return fmt.Errorf("writing checkpoint %s: %w", s.set.CheckpointPath, err)
+	}
+	return nil
+}
+
+// progress assembles a progress report.
+func (s *sampler) progress(began time.Time, first int, done bool) Progress {
+	el := time.Since(began)
+	pr := Progress{Step: s.step, Steps: s.set.Steps, Elapsed: el, Tau: math.NaN(), ETA: -1, Done: done}
+	var a int
+	for _, v := range s.accepted {
+		a += v
+	}
+	if s.step > 0 {
+		pr.Acceptance = float64(a) / float64(s.step*s.nw)
+	}
+	if s.lastTau != nil {
+		pr.Tau = 0
+		for _, t := range s.lastTau {
+			pr.Tau = math.Max(pr.Tau, t)
+		}
+	}
+	if sec := el.Seconds(); sec > 0 && s.step > first {
+		pr.StepsPerSecond = float64(s.step-first) / sec
+	}
+	if done {
+		pr.ETA = 0
+		return pr
+	}
+	left := math.Inf(1)
+	if s.set.Steps > 0 {
+		left = float64(s.set.Steps - s.step)
+	}
+	if s.set.AutoStop && !math.IsNaN(pr.Tau) {
+		left = math.Min(left, math.Max(0, s.set.TauFactor*pr.Tau-float64(s.step)))
+	}
+	if !math.IsInf(left, 1) && pr.StepsPerSecond > 0 {
+		pr.ETA = time.Duration(left / pr.StepsPerSecond * float64(time.Second))
+	}
+	return pr
+}
+
+// result assembles the Result.
+func (s *sampler) result() *Result {
+	r := &Result{
+		Chain:      s.chain,
+		Step:       s.step,
+		Status:     s.status,
+		Accepted:   append([]int(nil), s.accepted...),
+		Positions:  make([][]float64, s.nw),
+		LogDensity: append([]float64(nil), s.lp...),
+		Extra:      s.extra,
+		MAP:        s.mapRes,
+	}
+	for i, x := range s.pos {
+		r.Positions[i] = append([]float64(nil), x...)
+	}
+	if s.chain.Len() > 1 {
+		tau, ok := s.estimateTau(0)
+		r.Tau = tau
+		var worst float64
+		for _, t := range tau {
+			worst = math.Max(worst, t)
+		}
+		r.TauReliable = ok && float64(s.step) > s.set.TauFactor*worst
+	} else {
+		r.Tau = make([]float64, s.dim)
+		for j := range r.Tau {
+			r.Tau[j] = math.NaN()
+		}
+	}
+	if s.chain.Len() > 0 {
+		r.Stuck = FlagStuck(r.AcceptanceFraction(), s.chain.LogDensitySeries(s.chain.Len()/2),
+			s.set.StuckAcceptance, s.set.StuckGap)
+	}
+	return r
+}
+
+// pool is a fixed set of goroutines that share out the indices 0…n−1 of a
+// job; the calling goroutine works as worker 0.
+type pool struct {
+	threads int
+	jobs    []chan poolJob
+	wg      sync.WaitGroup
+	next    atomic.Int64
+}
+
+type poolJob struct {
+	n  int
+	fn func(worker, k int)
+}
+
+func newPool(threads int) *pool {
+	p := &pool{threads: max(1, threads)}
+	for w := 1; w < p.threads; w++ {
+		ch := make(chan poolJob)
+		p.jobs = append(p.jobs, ch)
+		go func(w int) {
+			for j := range ch {
+				p.work(w, j.n, j.fn)
+				p.wg.Done()
+			}
+		}(w)
+	}
+	return p
+}
+
+// run calls fn(worker, k) for k = 0…n−1, spread over the pool, and waits.
+func (p *pool) run(n int, fn func(worker, k int)) {
+	t := min(p.threads, n)
+	if t <= 1 {
+		for k := 0; k < n; k++ {
+			fn(0, k)
+		}
+		return
+	}
+	p.next.Store(0)
+	p.wg.Add(t - 1)
+	for w := 1; w < t; w++ {
+		p.jobs[w-1] <- poolJob{n, fn}
+	}
+	p.work(0, n, fn)
+	p.wg.Wait()
+}
+
+func (p *pool) work(w, n int, fn func(worker, k int)) {
+	for {
+		k := int(p.next.Add(1)) - 1
+		if k >= n {
+			return
+		}
+		fn(w, k)
+	}
+}
+
+func (p *pool) stop() {
+	for _, ch := range p.jobs {
+		close(ch)
+	}
+	p.jobs = nil
+}

@@ -1,0 +1,232 @@
+package config
+
+// HelpText documents the run configuration, for "mirabilis help config". It
+// ends with Example, a complete configuration with every setting commented.
+const HelpText = `A run configuration is a TOML file (https://toml.io) that describes one fit:
+the catalog of sources, the rotation curve, the prior of every parameter, the
+spiral arms, and the settings of the likelihood and of the sampler.
+
+Units: kpc, km/s and degrees. Azimuths β are Galactocentric, 0 on the line from
+the centre through the Sun, increasing in the direction of Galactic rotation.
+
+Every key is checked: a misspelt key, an impossible prior, a duplicate arm or
+an unknown choice stops the run with a message naming the key and its line,
+and all such problems are listed at once. Paths are taken relative to the
+folder of the configuration file. Every setting that is left out takes the
+default given below; a run records the complete, resolved configuration (every
+default written out, every path absolute) in its run directory, and that file
+can be used again as a configuration.
+
+PRIORS
+  A prior is written as a short expression in a string:
+    "uniform(a, b)"                 flat on [a, b]
+    "normal(mu, sigma)"             Gaussian
+    "truncnormal(mu, sigma, a, b)"  Gaussian restricted to [a, b]
+    "loguniform(a, b)"              flat in ln x on [a, b], 0 < a < b
+    "fixed(v)"                      held at v, not sampled
+  A bare number (width_slope = 0) is the same as fixed(v). The median of each
+  prior (the midpoint of a uniform one) is the default starting value.
+
+TOP LEVEL
+  catalog           the source catalog (CSV). Required.
+  output            the run directory. Default "run-<name of this file>".
+
+[rotation]
+  curve             "linear": Θ(R) = Θ0 + dΘ/dR (R − R0);
+                    "power":  Θ(R) = Θ0 (R/R0)^α;
+                    "nodes":  free speeds Theta_1 … Theta_N at node_radii,
+                    interpolated, flat beyond the first and last node; Θ0 is
+                    then derived. Default "linear".
+  core_radius       R_core, kpc: every curve rises as a solid body inside it.
+                    Default 2.
+  node_radii        kpc, strictly increasing, at least two, none inside
+                    core_radius. Nodes curve only; required there.
+  interpolation     "monotone" (piecewise cubic without overshoot) or
+                    "linear". Nodes curve only. Default "monotone".
+
+[params]
+  One prior per global parameter. Parameters left out get broad defaults:
+    R0          kpc        uniform(6, 11)
+    Theta0      km/s       uniform(150, 320)    linear and power curves
+    dTheta_dR   km/s/kpc   uniform(-10, 10)     linear curve
+    alpha                  uniform(-0.5, 0.5)   power curve
+    Theta_j     km/s       uniform(100, 350)    nodes curve, j = 1 … N
+    Usun        km/s       uniform(-10, 30)     Sun, toward the centre
+    Vsun        km/s       uniform(-20, 40)     Sun, along rotation (beyond Θ0)
+    Wsun        km/s       uniform(-5, 20)      Sun, toward the north pole
+    Us, Vs, Ws  km/s       uniform(-30, 30)     mean motion of the sources
+    sigma_vir   km/s       uniform(0, 40)       scatter of each source
+    width_slope kpc/kpc    fixed(0)             growth of arm widths with R
+  Theta0, Vsun and Vs are nearly degenerate under flat priors: a prior on Vs,
+  or on Omega_sun under [derived_priors], settles them.
+
+[derived_priors]
+  Optional priors on derived quantities (not fixed values): Omega_sun
+  (km/s/kpc, (Theta0 + Vsun)/R0), Theta0_over_R0 (km/s/kpc),
+  Theta0_plus_Vsun (km/s), Oort_A and Oort_B (km/s/kpc), NAME_Rsun (kpc,
+  where arm NAME crosses the Sun–centre line) and, for the nodes curve,
+  Theta0 (km/s).
+
+[[arm]]  (one table per arm; none is allowed)
+  name              letters, digits and underscores, starting with a letter;
+                    unique. Parameters are named NAME_Rref, NAME_pitch,
+                    NAME_pitch2, NAME_kink, NAME_width and the fraction f_NAME.
+  ref_azimuth       β_ref, deg: where the arm's radius is R_ref. Default 0.
+  azimuth_range     [β_start, β_end], deg, start below end: where the arm
+                    exists. It may span more than 360°. Required.
+  radius            prior of R_ref, kpc. Required.
+  pitch             prior of the pitch angle ψ, deg (ψ1 below a kink);
+                    positive when the arm winds inward as β grows. Required.
+  width             prior of the arm's width at R0, kpc.
+                    Default "loguniform(0.05, 1.5)".
+  kink, pitch2      priors of β_kink (deg) and of the pitch ψ2 beyond it;
+                    give both to kink the arm, or neither.
+
+[membership]
+  field_scale       h, kpc: scale length of the field's exponential disk.
+                    Default 3.
+  concentration     α of the symmetric Dirichlet prior on the membership
+                    fractions f_field, f_NAME …; 1 is flat. Default 1.
+  arm_end_softening τ, deg: the arm's density fades over this azimuth at
+                    its ends. Default 3.
+
+[likelihood]
+  error_model       "gaussian", "tolerant" (a heavy-tailed form that keeps
+                    one wild source from dragging the fit) or "student".
+                    Default "gaussian".
+  student_dof       ν of the Student-t model. Default 4.
+  distance_prior    "galaxy": distances follow the model galaxy (arms and
+                    field), which is fitted with the rest; "parallax": flat
+                    in distance over distance_range, for fits of the
+                    rotation alone, with every arm parameter fixed.
+                    Default "galaxy".
+  distance_range    [d_min, d_max], kpc, of the distance integral.
+                    Default [0.05, 30].
+  tolerance         accuracy of each source's distance integral, in ln L.
+                    Default 1e-4.
+  inner_radius      R_inner, kpc: sources mostly inside are flagged, and the
+                    bar's extra scatter switches on there. Default 4.
+  exclude_inner     leave the flagged inner sources out. Default false.
+  bar_dispersion    σ_bar, km/s: extra scatter inside R_inner. Default 40.
+  bar_softening     s_bar, kpc: width of that switch. Default 0.5.
+  pilot_start       starting values by parameter name, for example
+                    { R0 = 8.2 }: the first pilot parameter set and the
+                    optimiser's start. Default: each prior's median.
+  pilot_spread      expected posterior spreads (standard deviations) by
+                    parameter name, for the pilot draws around the best
+                    point. Default: each prior's standard deviation.
+
+[sampler]
+  walkers           even, at least 2·D + 2 for D sampled dimensions (the
+                    free parameters, plus one fewer than the number of
+                    fractions). Default max(2·D + 2, 32).
+  steps             total chain length; 0 lets the run stop on its own once
+                    it is longer than 50 autocorrelation times and those
+                    have settled. Default 0.
+  max_steps         the longest a run that stops on its own may go.
+                    Default 20000.
+  burn              initial steps left out of summaries. Default steps/4;
+                    with steps = 0, 0 means a quarter of the final length.
+  seed              seed of the random streams; the same seed gives the same
+                    chain whatever the number of threads. Default 1.
+  threads           0 uses every core. Default 0.
+  checkpoint_every  steps between checkpoints; 0 writes one at the end only.
+                    Default 200.
+  moves             relative weights of the proposal moves: stretch,
+                    differential_evolution, walk.
+                    Default { stretch = 1, differential_evolution = 0, walk = 0 }.
+  stretch_scale     a > 1 of the stretch move. Default 2.
+
+EXAMPLE
+` + Example
+
+// Example is a complete run configuration for the project's model galaxy,
+// with every setting shown and commented.
+const Example = `# demo.toml: the four arms of the model galaxy, fitted with a linear
+# rotation curve.
+catalog = "sources.csv"          # required; relative to this file's folder
+output = "runs/demo"             # default "run-demo"
+
+[rotation]
+curve = "linear"                 # linear | power | nodes
+core_radius = 2.0                # kpc
+# node_radii = [4, 6, 8, 10, 12, 14]   # kpc, nodes curve only
+# interpolation = "monotone"           # nodes curve only
+
+[params]
+R0 = "normal(8.2, 0.4)"          # kpc
+Theta0 = "uniform(150, 320)"     # km/s
+dTheta_dR = "normal(0, 5)"       # km/s/kpc
+# alpha = "normal(0, 0.2)"       # power curve
+# Theta_1 = "uniform(100, 350)"  # nodes curve, one per node radius
+Usun = "normal(10, 5)"           # km/s
+Vsun = "normal(12, 10)"          # km/s
+Wsun = "normal(7, 3)"            # km/s
+Us = "normal(0, 10)"             # km/s
+Vs = "normal(-5, 10)"            # km/s
+Ws = "normal(0, 10)"             # km/s
+sigma_vir = "uniform(0, 30)"     # km/s
+width_slope = 0                  # a number fixes the parameter
+
+[derived_priors]
+Omega_sun = "normal(30.3, 1.0)"  # km/s/kpc, (Theta0 + Vsun)/R0
+
+[[arm]]
+name = "Corvid"
+ref_azimuth = 0.0                # deg
+azimuth_range = [-30, 160]       # deg
+radius = "uniform(5, 7)"         # kpc, Corvid_Rref
+pitch = "uniform(5, 20)"         # deg, below the kink
+pitch2 = "uniform(5, 20)"        # deg, beyond the kink
+kink = "uniform(20, 60)"         # deg
+width = "loguniform(0.05, 1)"    # kpc
+
+[[arm]]
+name = "Lantern"
+azimuth_range = [-20, 200]
+radius = "uniform(7, 9)"
+pitch = "uniform(5, 20)"
+
+[[arm]]
+name = "Tamarisk"
+azimuth_range = [-40, 120]
+radius = "uniform(9, 11.5)"
+pitch = "normal(12, 4)"
+width = "loguniform(0.05, 1)"
+
+[[arm]]
+name = "Halcyon"
+ref_azimuth = 20.0
+azimuth_range = [0, 400]         # more than one turn
+radius = "uniform(3.5, 5.5)"
+pitch = "uniform(5, 25)"
+
+[membership]
+field_scale = 3.0                # kpc
+concentration = 1.0              # symmetric Dirichlet
+arm_end_softening = 3.0          # deg
+
+[likelihood]
+error_model = "gaussian"         # gaussian | tolerant | student
+student_dof = 4.0                # student only
+distance_prior = "galaxy"        # galaxy | parallax
+distance_range = [0.05, 30]      # kpc
+tolerance = 1e-4                 # ln L per source
+inner_radius = 4.0               # kpc
+exclude_inner = false
+bar_dispersion = 40.0            # km/s
+bar_softening = 0.5              # kpc
+pilot_start = { R0 = 8.2 }
+pilot_spread = { R0 = 0.3, Theta0 = 8.0 }
+
+[sampler]
+walkers = 64
+steps = 4000                     # 0 = stop on its own
+max_steps = 20000
+burn = 1000
+seed = 1
+threads = 0                      # all cores
+checkpoint_every = 200
+moves = { stretch = 1.0, differential_evolution = 0.0, walk = 0.0 }
+stretch_scale = 2.0
+`

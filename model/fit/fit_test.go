@@ -1,0 +1,206 @@
+package fit
+
+import (
+	"bytes"
+	"context"
+	"errors"
+	"fmt"
+	"io/fs"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/mirabilis-astro/mirabilis/model/catalog"
+	"github.com/mirabilis-astro/mirabilis/model/config"
+	"github.com/mirabilis-astro/mirabilis/model/mock"
+)
+
+// smallGalaxy is a two-armed model galaxy of the project's own invention; its [params]
+// are the truth of the mock, and the fit's priors replace them (fitPriors).
+const smallGalaxy = `catalog = "sources.csv"
+output = "run"
+
+[params]
+R0 = "fixed(8.2)"
+Theta0 = "fixed(232)"
+dTheta_dR = "fixed(-0.5)"
+Usun = "fixed(10.5)"
+Vsun = "fixed(12)"
+Wsun = "fixed(7.5)"
+Us = "fixed(2)"
+Vs = "fixed(-3)"
+Ws = "fixed(0)"
+sigma_vir = "fixed(6)"
+
+[[arm]]
+name = "Corvid"
+azimuth_range = [-40, 150]
+radius = "fixed(5.2)"
+pitch = "fixed(12)"
+width = "fixed(0.25)"
+
+[[arm]]
+name = "Tamarisk"
+azimuth_range = [-60, 110]
+radius = "fixed(9.4)"
+pitch = "fixed(11)"
+width = "fixed(0.3)"
+
+[survey]
+sources = %d
+seed = 11
+declination_range = [-35, 90]
+max_distance = 12
+min_distance = 0.4
+fractions = { field = 0.15 }
+parallax_error = [0.008, 0.003]
+proper_motion_error = [0.03, 0.015]
+velocity_error = 3
+labelled = 0.1
+galactic_share = 0.1
+missing_share = 0.05
+`
+
+// fitPriors turns the mock's fixed truths into the priors of a fit.
+var fitPriors = strings.NewReplacer(
+	`"fixed(8.2)"`, `"uniform(6.5, 10)"`,
+	`"fixed(232)"`, `"uniform(180, 290)"`,
+	`"fixed(-0.5)"`, `"uniform(-8, 8)"`,
+	`"fixed(10.5)"`, `"uniform(-5, 25)"`,
+	`"fixed(12)"`, `"uniform(-10, 35)"`,
+	`"fixed(7.5)"`, `"uniform(0, 15)"`,
+	`"fixed(2)"`, `"uniform(-20, 20)"`,
+	`"fixed(-3)"`, `"normal(-3, 3)"`,
+	`"fixed(0)"`, `"uniform(-10, 10)"`,
+	`"fixed(6)"`, `"uniform(0.5, 20)"`,
+	`"fixed(5.2)"`, `"uniform(4.2, 6.2)"`,
+	`"fixed(9.4)"`, `"uniform(8.5, 10.5)"`,
+	`pitch = "fixed(12)"`, `pitch = "uniform(4, 25)"`,
+	`pitch = "fixed(11)"`, `pitch = "uniform(4, 25)"`,
+	`"fixed(0.25)"`, `"loguniform(0.05, 1)"`,
+	`"fixed(0.3)"`, `"loguniform(0.05, 1)"`,
+)
+
+// setUp writes a mock catalog of n sources and a fit configuration into a new folder and
+// returns the configuration's path and the mock.
+func setUp(t *testing.T, n int, sampler string) (string, *mock.Model) {
+	t.Helper()
+	dir := t.TempDir()
+	desc := fmt.Sprintf(smallGalaxy, n)
+	m, err := mock.Parse([]byte(desc), "galaxy.toml", dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	src, _, err := m.Draw(nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var b bytes.Buffer
+	if err := catalog.Write(&b, src); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(filepath.Join(dir, "sources.csv"), b.Bytes(), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	// The fit: the same arms with broad priors, without the survey.
+	body := desc[:strings.Index(desc, "[survey]")]
+	body = strings.Replace(body, `pitch = "fixed(12)"`, `pitch = "uniform(4, 25)"`, 1)
+	body = fitPriors.Replace(body)
+	body += sampler
+	path := filepath.Join(dir, "fit.toml")
+	if err := os.WriteFile(path, []byte(body), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	return path, m
+}
+
+func load(t *testing.T, path string) *config.Config {
+	t.Helper()
+	cfg, err := config.Load(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return cfg
+}
+
+// TestResumeIsExact: a fit stopped at step 17 and resumed to 40 steps writes the same chain,
+// byte for byte, as a fit of 40 steps that never stopped, and refuses to resume once the
+// configuration changed.
+func TestResumeIsExact(t *testing.T) {
+	if testing.Short() {
+		t.Skip("runs three short fits")
+	}
+	path, _ := setUp(t, 30, "\n[sampler]\nwalkers = 40\nsteps = 40\nburn = 10\ncheckpoint_every = 10\nseed = 5\n")
+	dir := filepath.Dir(path)
+	ctx := context.Background()
+	if _, err := Fit(ctx, load(t, path), Options{Out: filepath.Join(dir, "whole"), Threads: 2}); err != nil {
+		t.Fatal(err)
+	}
+	part := filepath.Join(dir, "part")
+	if _, err := Fit(ctx, load(t, path), Options{Out: part, Steps: 17, Threads: 1}); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := Fit(ctx, load(t, path), Options{Out: part, Steps: 17, Threads: 1}); err == nil {
+		t.Error("a second fit into a finished run directory was not refused")
+	}
+	if _, err := Fit(ctx, load(t, path), Options{Out: part, Steps: 40, Resume: true, Threads: 2}); err != nil {
+		t.Fatal(err)
+	}
+	a, _ := os.ReadFile(filepath.Join(dir, "whole", ChainFile))
+	b, _ := os.ReadFile(filepath.Join(part, ChainFile))
+	if os.Getenv("MIRABILIS_KEEP") != "" {
+		os.WriteFile("/tmp/whole.csv", a, 0o644)
+		os.WriteFile("/tmp/part.csv", b, 0o644)
+		log1, _ := os.ReadFile(filepath.Join(dir, "whole", LogFile))
+		log2, _ := os.ReadFile(filepath.Join(part, LogFile))
+		t.Logf("%s\n----\n%s", log1, log2)
+	}
+	if len(a) == 0 || !bytes.Equal(a, b) {
+		t.Errorf("resumed chain differs from the uninterrupted one (%d and %d bytes)", len(b), len(a))
+	}
+	// A changed configuration is refused.
+	cfg := load(t, path)
+	cfg.Membership.FieldScale = 3.5
+	if _, err := Fit(ctx, cfg, Options{Out: part, Steps: 50, Resume: true}); err == nil || !strings.Contains(err.Error(), "configuration differs") {
+		t.Errorf("resume with a changed configuration: err = %v, want a refusal", err)
+	}
+}
+
+// TestBadInputLeavesNoDirectory: a catalog with a bad row, or a catalog whose labels name
+// no arm, stops the fit before any run directory exists.
+func TestBadInputLeavesNoDirectory(t *testing.T) {
+	path, _ := setUp(t, 10, "\n[sampler]\nwalkers = 40\nsteps = 10\n")
+	dir := filepath.Dir(path)
+	catPath := filepath.Join(dir, "sources.csv")
+	good, _ := os.ReadFile(catPath)
+	lines := strings.Split(string(good), "\n")
+	for name, mutate := range map[string]func() string{
+		"bad value": func() string {
+			return strings.Replace(string(good), lines[3][:strings.Index(lines[3], ",")], lines[3][:strings.Index(lines[3], ",")]+",oops", 1)
+		},
+		"unknown arm": func() string {
+			return strings.TrimSuffix(string(good), "\n") + "\n" + withArm(lines[1], "Nowhere") + "\n"
+		},
+	} {
+		if err := os.WriteFile(catPath, []byte(mutate()), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		out := filepath.Join(dir, "run-"+strings.ReplaceAll(name, " ", "-"))
+		_, err := Fit(context.Background(), load(t, path), Options{Out: out})
+		if err == nil {
+			t.Errorf("%s: the fit was not refused", name)
+		}
+		if _, serr := os.Stat(out); !errors.Is(serr, fs.ErrNotExist) {
+			t.Errorf("%s: run directory %s exists after a refused fit (%v)", name, out, err)
+		}
+	}
+}
+
+// withArm renames a catalog row and sets its arm column (the last) to arm.
+func withArm(row, arm string) string {
+	f := strings.Split(row, ",")
+	f[0] = "extra-source"
+	f[len(f)-1] = arm
+	return strings.Join(f, ",")
+}

@@ -1,0 +1,269 @@
+// Package fit runs the whole job: it prepares a configuration and a catalog for sampling,
+// lays out each source's distance quadrature at pilot parameter sets, finds the maximum a
+// posteriori point, samples the posterior in a run directory with checkpoints, and
+// summarises a finished run (parameters, derived quantities, per-source memberships,
+// distances and peculiar motions).
+package fit
+
+import (
+	"context"
+	"fmt"
+	"io"
+	"math"
+	"math/rand/v2"
+
+	"gonum.org/v1/gonum/mat"
+
+	"github.com/mirabilis-astro/mirabilis/mcmc"
+	"github.com/mirabilis-astro/mirabilis/model"
+	"github.com/mirabilis-astro/mirabilis/model/catalog"
+	"github.com/mirabilis-astro/mirabilis/model/config"
+)
+
+// Job is a configuration and a catalog prepared for sampling.
+type Job struct {
+	Config  *config.Config
+	Catalog *catalog.Catalog
+	Spec    *model.Spec
+	Like    *model.Likelihood
+	Post    *model.Posterior
+	// Log receives progress messages of the preparation; nil discards them.
+	Log io.Writer
+}
+
+// Prepare checks that the catalog fits the configuration and builds the likelihood and
+// the posterior. The quadratures are not laid out yet (see Pilot).
+func Prepare(cfg *config.Config, cat *catalog.Catalog) (*Job, error) {
+	spec, err := model.SpecFromConfig(cfg)
+	if err != nil {
+		return nil, err
+	}
+	src, err := model.NewSources(cat, spec)
+	if err != nil {
+		return nil, err
+	}
+	L, err := model.NewLikelihood(spec, src)
+	if err != nil {
+		return nil, err
+	}
+	post, err := model.NewPosterior(cfg, L)
+	if err != nil {
+		return nil, err
+	}
+	if post.Dim() == 0 {
+		return nil, fmt.Errorf("configuration %s: every parameter is fixed: nothing to sample", cfg.File)
+	}
+	return &Job{Config: cfg, Catalog: cat, Spec: spec, Like: L, Post: post}, nil
+}
+
+func (j *Job) logf(format string, a ...any) {
+	if j.Log != nil {
+		fmt.Fprintf(j.Log, format+"\n", a...)
+	}
+}
+
+// Start returns the starting point in sampled coordinates: each free parameter's
+// configured start (its prior's median by default) and equal membership fractions.
+func (j *Job) Start() []float64 {
+	start := j.Config.Start()
+	names := j.Config.ParamNames()
+	values := map[string]float64{}
+	for i, n := range names {
+		values[n] = start[i]
+	}
+	for k := range j.Spec.NumComponents() {
+		values[fractionName(j.Spec, k)] = 1 / float64(j.Spec.NumComponents())
+	}
+	x, _ := j.Post.Point(values)
+	return x
+}
+
+func fractionName(s *model.Spec, k int) string {
+	if k == 0 {
+		return config.FieldFraction
+	}
+	return "f_" + s.Arms[k-1].Name
+}
+
+// Spreads returns the configured pilot spread of each sampled coordinate: the
+// configuration's pilot_spread where given, else the prior's standard deviation (for the
+// fractions' reals, their prior spread).
+func (j *Job) Spreads() []float64 {
+	all := j.Config.Spreads()
+	names := j.Config.ParamNames()
+	byName := map[string]float64{}
+	for i, n := range names {
+		byName[n] = all[i]
+	}
+	var out []float64
+	for _, n := range j.Post.Names()[:len(j.Post.FreePriors())] {
+		out = append(out, byName[n])
+	}
+	d := j.Post.Fractions()
+	for k := range d.Dim() {
+		out = append(out, d.RealsSpread(k))
+	}
+	return out
+}
+
+// PilotResult is what the pilot stage found.
+type PilotResult struct {
+	// MAP is the maximum a posteriori point, in sampled coordinates, and MAPLogDensity the
+	// log posterior there.
+	MAP           []float64
+	MAPLogDensity float64
+	// Spread is the posterior standard deviation of each sampled coordinate from the
+	// curvature at the MAP (Laplace approximation), or a fallback where that failed.
+	Spread []float64
+	// Pilots are the parameter sets the final quadratures were laid out at.
+	Pilots [][]float64
+	// Stats describes the final quadratures.
+	Stats model.LayoutStats
+}
+
+// Pilot lays out the quadratures and finds the MAP point (MODEL §5, step 3): panels are
+// built at the starting point; the MAP is found with them; the panels are rebuilt at the
+// start and the MAP, and the MAP refined; finally the panels are built at the start, the
+// MAP and ten draws around it with the expected posterior spreads (the configuration's
+// pilot_spread, or the Laplace approximation's). threads lays out that many sources at
+// once; the result does not depend on it. seed fixes the draws.
+func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult, error) {
+	start := j.Start()
+	build := func(points [][]float64) (model.LayoutStats, error) {
+		ps := make([]*model.Params, len(points))
+		for i, x := range points {
+			p, err := j.Post.Params(x)
+			if err != nil {
+				return model.LayoutStats{}, fmt.Errorf("pilot parameter set %d: %w", i, err)
+			}
+			ps[i] = p
+		}
+		return j.Like.BuildLayouts(ps, threads)
+	}
+	if math.IsInf(j.Post.LogPrior(start), -1) {
+		return nil, fmt.Errorf("the starting point lies outside the prior's support")
+	}
+	st, err := build([][]float64{start})
+	if err != nil {
+		return nil, err
+	}
+	j.logf("quadrature at the starting point: %d nodes per source (median; %d–%d)", st.MedianNodes, st.MinNodes, st.MaxNodes)
+	spreads := j.Spreads()
+	x := start
+	var lp float64
+	for round := 1; round <= 2; round++ {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
+		budget := 150 * (len(x) + 1) / round
+		res, err := mcmc.FindMAP(j.Post.LogDensity, x, &mcmc.MAPSettings{Scale: mapScales(spreads, x), MaxEvaluations: budget, Restarts: 1})
+		if err != nil {
+			return nil, fmt.Errorf("finding the MAP: %w", err)
+		}
+		x, lp = res.X, res.LogDensity
+		j.logf("MAP search round %d: log posterior %.3f after %d evaluations", round, lp, res.Evaluations)
+		if round == 1 {
+			if _, err := build([][]float64{start, x}); err != nil {
+				return nil, err
+			}
+		}
+	}
+	// Directions the data leave unconstrained (such as Wsun + Ws, which no observable
+	// sees) have almost no curvature: no spread may exceed the prior's.
+	spread := j.laplace(x, spreads)
+	for i, s := range spreads {
+		if s > 0 && !(spread[i] <= s) {
+			spread[i] = s
+		}
+	}
+	for i, n := range j.Post.Names()[:len(j.Post.FreePriors())] {
+		if v, ok := j.Config.Likelihood.PilotSpread[n]; ok {
+			spread[i] = v
+		}
+	}
+	pilots := [][]float64{start, x}
+	rng := rand.New(rand.NewPCG(seed, 0x70696c6f74))
+	for tries := 0; len(pilots) < 12 && tries < 1000; tries++ {
+		y := make([]float64, len(x))
+		for i := range y {
+			y[i] = x[i] + spread[i]*rng.NormFloat64()
+		}
+		if !math.IsInf(j.Post.LogPrior(y), -1) {
+			pilots = append(pilots, y)
+		}
+	}
+	if st, err = build(pilots); err != nil {
+		return nil, err
+	}
+	lp = j.Post.LogDensity(x)
+	j.logf("quadrature at %d pilots: %d nodes per source (median; %d–%d), %d not converged",
+		len(pilots), st.MedianNodes, st.MinNodes, st.MaxNodes, len(st.Unconverged))
+	return &PilotResult{MAP: x, MAPLogDensity: lp, Spread: spread, Pilots: pilots, Stats: st}, nil
+}
+
+// mapScales returns positive scales for the optimiser.
+func mapScales(spreads, x []float64) []float64 {
+	out := make([]float64, len(spreads))
+	for i, s := range spreads {
+		if !(s > 0) || math.IsInf(s, 0) {
+			s = math.Max(1e-3, 0.1*math.Abs(x[i]))
+		}
+		out[i] = s
+	}
+	return out
+}
+
+// laplace returns the posterior standard deviation of each coordinate from the Hessian of
+// the log posterior at x (central differences with steps of a tenth of the prior spread,
+// shrunk until finite), the marginal ones when −H is positive definite and the conditional
+// 1/√(−H_ii) otherwise; a coordinate with no curvature keeps a tenth of its prior spread.
+func (j *Job) laplace(x, prior []float64) []float64 {
+	n := len(x)
+	f := j.Post.LogDensity
+	f0 := f(x)
+	h := make([]float64, n)
+	for i := range h {
+		h[i] = 0.01 * mapScales(prior, x)[i]
+	}
+	at := func(di, dj int, si, sj float64) float64 {
+		y := append([]float64(nil), x...)
+		y[di] += si * h[di]
+		y[dj] += sj * h[dj]
+		return f(y)
+	}
+	H := mat.NewSymDense(n, nil)
+	for a := range n {
+		for b := a; b < n; b++ {
+			var v float64
+			if a == b {
+				v = (at(a, a, 0.5, 0.5) - 2*f0 + at(a, a, -0.5, -0.5)) / (h[a] * h[a])
+			} else {
+				v = (at(a, b, 1, 1) - at(a, b, 1, -1) - at(a, b, -1, 1) + at(a, b, -1, -1)) / (4 * h[a] * h[b])
+			}
+			H.SetSym(a, b, -v)
+		}
+	}
+	out := make([]float64, n)
+	var chol mat.Cholesky
+	if chol.Factorize(H) {
+		var cov mat.SymDense
+		if err := chol.InverseTo(&cov); err == nil {
+			ok := true
+			for i := range n {
+				out[i] = math.Sqrt(cov.At(i, i))
+				ok = ok && out[i] > 0 && !math.IsInf(out[i], 0)
+			}
+			if ok {
+				return out
+			}
+		}
+	}
+	for i := range n {
+		if d := H.At(i, i); d > 0 && !math.IsInf(d, 0) {
+			out[i] = 1 / math.Sqrt(d)
+		} else {
+			out[i] = 0.1 * mapScales(prior, x)[i]
+		}
+	}
+	return out
+}

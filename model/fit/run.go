@@ -1,0 +1,491 @@
+package fit
+
+import (
+	"context"
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"io/fs"
+	"os"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"github.com/mirabilis-astro/mirabilis/mcmc"
+	"github.com/mirabilis-astro/mirabilis/model"
+	"github.com/mirabilis-astro/mirabilis/model/catalog"
+	"github.com/mirabilis-astro/mirabilis/model/config"
+)
+
+// Files of a run directory.
+const (
+	ManifestFile   = "run.json"       // what the run is and how far it got
+	ConfigFile     = "config.toml"    // the resolved configuration, usable with fit as it is
+	ChainFile      = "chain.csv"      // the chain, one row per walker per step
+	CheckpointFile = "checkpoint.bin" // the sampler's state and the quadrature layouts
+	PilotFile      = "pilot.json"     // the pilot stage: MAP point, spreads, quadrature
+	LogFile        = "log.txt"        // what the run reported, in order
+)
+
+// Run states recorded in the manifest.
+const (
+	StateRunning  = "running"
+	StateStopped  = "stopped"
+	StateFinished = "finished"
+)
+
+// Manifest describes a run directory.
+type Manifest struct {
+	Format        int    `json:"format"`
+	State         string `json:"state"`
+	Step          int    `json:"step"`
+	ConfigHash    string `json:"config_sha256"`
+	CatalogPath   string `json:"catalog"`
+	CatalogSHA256 string `json:"catalog_sha256"`
+	Created       string `json:"created"`
+	Updated       string `json:"updated"`
+	StopReason    string `json:"stop_reason,omitempty"`
+	// RefineUntil is the last step at which the quadratures may be refined: the burn-in
+	// of the configuration as written, kept here so that a run resumed with another
+	// --steps refines exactly where the uninterrupted run would have.
+	RefineUntil int `json:"refine_until"`
+}
+
+// Options adjust a fit beyond its configuration.
+type Options struct {
+	// Out replaces the configuration's run directory when not empty.
+	Out string
+	// Seed, when not nil, replaces the configuration's seed.
+	Seed *uint64
+	// Threads, when positive, replaces the configuration's thread count.
+	Threads int
+	// Steps, when positive, replaces the total chain length.
+	Steps int
+	// Resume continues a stopped run in the run directory.
+	Resume bool
+	// Force replaces a run directory that holds a run.
+	Force bool
+	// MaxDuration, when positive, stops the sampler cleanly after that long.
+	MaxDuration time.Duration
+	// Progress is called with the sampler's progress.
+	Progress func(mcmc.Progress)
+	// Log receives human-readable messages (they also go to the run's log file).
+	Log io.Writer
+}
+
+// Outcome is a fit's result.
+type Outcome struct {
+	Dir     string
+	Job     *Job
+	Result  *mcmc.Result
+	Pilot   *PilotResult
+	Summary *Summary
+}
+
+// Apply applies the options' overrides to a configuration.
+func (o *Options) Apply(cfg *config.Config) error {
+	if o.Out != "" {
+		abs, err := filepath.Abs(o.Out)
+		if err != nil {
+			return err
+		}
+		cfg.Output = abs
+	}
+	if o.Seed != nil {
+		cfg.Sampler.Seed = *o.Seed
+	}
+	if o.Threads > 0 {
+		cfg.Sampler.Threads = o.Threads
+	}
+	if o.Steps > 0 {
+		// Keep the burn-in's share of the chain.
+		if cfg.Sampler.Steps > 0 {
+			cfg.Sampler.Burn = int(int64(cfg.Sampler.Burn) * int64(o.Steps) / int64(cfg.Sampler.Steps))
+		} else {
+			cfg.Sampler.Burn = o.Steps / 4
+		}
+		cfg.Sampler.Steps = o.Steps
+	}
+	return cfg.Validate()
+}
+
+// chainHash is the configuration's hash with the settings a resume may change (the chain's
+// length and burn-in) left out.
+func chainHash(cfg *config.Config) string {
+	c := *cfg
+	c.Sampler.Steps, c.Sampler.MaxSteps, c.Sampler.Burn = 0, 0, 0
+	return c.Hash()
+}
+
+// FileSHA256 returns the hexadecimal SHA-256 of a file's content.
+func FileSHA256(path string) (string, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return "", err
+	}
+	sum := sha256.Sum256(data)
+	return hex.EncodeToString(sum[:]), nil
+}
+
+// ReadManifest reads a run directory's manifest.
+func ReadManifest(dir string) (*Manifest, error) {
+	data, err := os.ReadFile(filepath.Join(dir, ManifestFile))
+	if err != nil {
+		return nil, err
+	}
+	var m Manifest
+	if err := json.Unmarshal(data, &m); err != nil {
+		return nil, fmt.Errorf("%s: %w", filepath.Join(dir, ManifestFile), err)
+	}
+	return &m, nil
+}
+
+// WriteFileAtomic writes data to path through a temporary file in the same folder, synced
+// and renamed over path, so that path holds either its old or its new content.
+func WriteFileAtomic(path string, data []byte) error {
+	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp-*")
+	if err != nil {
+		return err
+	}
+	tmp := f.Name()
+	_, err = f.Write(data)
+	if err == nil {
+		err = f.Sync()
+	}
+	if cerr := f.Close(); err == nil {
+		err = cerr
+	}
+	if err == nil {
+		err = os.Rename(tmp, path)
+	}
+	if err != nil {
+		os.Remove(tmp)
+	}
+	return err
+}
+
+func writeJSON(path string, v any) error {
+	data, err := json.MarshalIndent(v, "", "  ")
+	if err != nil {
+		return err
+	}
+	return WriteFileAtomic(path, append(data, '\n'))
+}
+
+func now() string { return time.Now().UTC().Format(time.RFC3339) }
+
+// Fit runs a configuration to the end (or until stopped) in its run directory. Everything
+// is read and checked before the directory is touched: a bad configuration or catalog
+// leaves no directory behind. A new run directory appears whole (made under a temporary
+// name and renamed); a finished run is not overwritten without Force; Resume continues a
+// stopped run exactly, and is refused if the configuration or the catalog changed.
+func Fit(ctx context.Context, cfg *config.Config, opts Options) (*Outcome, error) {
+	refineUntil := burnLimit(cfg.Sampler)
+	if err := opts.Apply(cfg); err != nil {
+		return nil, err
+	}
+	cat, err := catalog.ReadFile(cfg.Catalog)
+	if err != nil {
+		return nil, err
+	}
+	catHash, err := FileSHA256(cfg.Catalog)
+	if err != nil {
+		return nil, err
+	}
+	job, err := Prepare(cfg, cat)
+	if err != nil {
+		return nil, err
+	}
+	dir := cfg.Output
+	resuming, err := claimDir(dir, cfg, catHash, refineUntil, opts)
+	if err != nil {
+		return nil, err
+	}
+	if m, err := ReadManifest(dir); err == nil {
+		refineUntil = m.RefineUntil
+	}
+	logFile, err := os.OpenFile(filepath.Join(dir, LogFile), os.O_CREATE|os.O_APPEND|os.O_WRONLY, 0o644)
+	if err != nil {
+		return nil, err
+	}
+	defer logFile.Close()
+	var logw io.Writer = logFile
+	if opts.Log != nil {
+		logw = io.MultiWriter(logFile, opts.Log)
+	}
+	job.Log = logw
+	return runIn(ctx, job, dir, resuming, refineUntil, opts)
+}
+
+// claimDir makes sure dir may hold this run, creating it whole if it does not exist. It
+// reports whether an existing run is to be resumed.
+func claimDir(dir string, cfg *config.Config, catHash string, refineUntil int, opts Options) (bool, error) {
+	m, err := ReadManifest(dir)
+	switch {
+	case err == nil:
+		switch {
+		case opts.Resume:
+			if m.ConfigHash != chainHash(cfg) {
+				return false, fmt.Errorf("run directory %s: the configuration differs from the one the run was started with (compare with %s); start a new run instead of resuming",
+					dir, filepath.Join(dir, ConfigFile))
+			}
+			if m.CatalogSHA256 != catHash {
+				return false, fmt.Errorf("run directory %s: the catalog %s changed since the run was started; start a new run instead of resuming", dir, cfg.Catalog)
+			}
+			if m.State == StateFinished {
+				if _, err := os.Stat(filepath.Join(dir, CheckpointFile)); err != nil {
+					return false, fmt.Errorf("run directory %s: the run is finished and has no checkpoint to continue from", dir)
+				}
+			}
+			return true, writeConfig(dir, cfg)
+		case opts.Force:
+			if err := os.RemoveAll(dir); err != nil {
+				return false, err
+			}
+		case m.State == StateFinished:
+			return false, fmt.Errorf("run directory %s holds a finished run; use --force to replace it or --out to choose another directory", dir)
+		default:
+			return false, fmt.Errorf("run directory %s holds a %s run (step %d); use --resume to continue it or --force to start again", dir, m.State, m.Step)
+		}
+	case errors.Is(err, fs.ErrNotExist):
+		entries, derr := os.ReadDir(dir)
+		if derr == nil && len(entries) > 0 {
+			return false, fmt.Errorf("%s exists and is not a run directory; choose another with --out", dir)
+		}
+		if derr == nil {
+			os.Remove(dir)
+		}
+	default:
+		return false, err
+	}
+	// A new run directory, made under a temporary name and renamed into place.
+	parent := filepath.Dir(dir)
+	if err := os.MkdirAll(parent, 0o755); err != nil {
+		return false, err
+	}
+	tmp, err := os.MkdirTemp(parent, "."+filepath.Base(dir)+".new-*")
+	if err != nil {
+		return false, err
+	}
+	m = &Manifest{Format: 1, State: StateRunning, ConfigHash: chainHash(cfg), CatalogPath: cfg.Catalog,
+		CatalogSHA256: catHash, Created: now(), Updated: now(), RefineUntil: refineUntil}
+	if err := writeConfig(tmp, cfg); err == nil {
+		err = writeJSON(filepath.Join(tmp, ManifestFile), m)
+	}
+	if err == nil {
+		err = os.Rename(tmp, dir)
+	}
+	if err != nil {
+		os.RemoveAll(tmp)
+		return false, fmt.Errorf("creating run directory %s: %w", dir, err)
+	}
+	return false, nil
+}
+
+func writeConfig(dir string, cfg *config.Config) error {
+	return WriteFileAtomic(filepath.Join(dir, ConfigFile), cfg.Resolved())
+}
+
+func updateManifest(dir string, f func(m *Manifest)) error {
+	m, err := ReadManifest(dir)
+	if err != nil {
+		return err
+	}
+	f(m)
+	m.Updated = now()
+	return writeJSON(filepath.Join(dir, ManifestFile), m)
+}
+
+// burnLimit is the last step at which the quadratures may still be refined.
+func burnLimit(s config.Sampler) int {
+	switch {
+	case s.Burn > 0:
+		return s.Burn
+	case s.Steps > 0:
+		return s.Steps / 4
+	default:
+		return s.MaxSteps / 10
+	}
+}
+
+// monitorSources is how many sources the quadrature monitor checks at each checkpoint.
+const monitorSources = 64
+
+func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, opts Options) (*Outcome, error) {
+	cfg := job.Config
+	ckPath := filepath.Join(dir, CheckpointFile)
+	out := &Outcome{Dir: dir, Job: job}
+	var pilot *PilotResult
+	if resuming {
+		if ck, err := mcmc.LoadCheckpoint(ckPath); err == nil {
+			if err := job.Like.UnmarshalLayouts(ck.Extra); err != nil {
+				return nil, fmt.Errorf("%s: %w", ckPath, err)
+			}
+			job.logf("resuming at step %d", ck.Step)
+			if data, err := os.ReadFile(filepath.Join(dir, PilotFile)); err == nil {
+				pilot = new(PilotResult)
+				if err := json.Unmarshal(data, pilot); err != nil {
+					return nil, fmt.Errorf("%s: %w", filepath.Join(dir, PilotFile), err)
+				}
+			}
+		} else if !errors.Is(err, fs.ErrNotExist) {
+			return nil, err
+		} else {
+			resuming = false // stopped before its first checkpoint: start the same run again
+		}
+	}
+	if pilot == nil {
+		job.logf("laying out the distance quadratures of %d sources", len(job.Like.Sources))
+		var err error
+		pilot, err = job.Pilot(ctx, cfg.Sampler.Seed, cfg.Sampler.Threads)
+		if err != nil {
+			return nil, err
+		}
+		if err := writeJSON(filepath.Join(dir, PilotFile), jsonSafe(pilot)); err != nil {
+			return nil, err
+		}
+	}
+	out.Pilot = pilot
+	layouts, err := job.Like.MarshalLayouts()
+	if err != nil {
+		return nil, err
+	}
+	names := job.Post.Names()
+	nsrc := len(job.Like.Sources)
+	set := &mcmc.Settings{
+		Names:           names,
+		Walkers:         cfg.Sampler.Walkers,
+		Seed:            cfg.Sampler.Seed,
+		Threads:         cfg.Sampler.Threads,
+		Moves:           moves(cfg.Sampler),
+		Steps:           cfg.Sampler.Steps,
+		ChainPath:       filepath.Join(dir, ChainFile),
+		Comments:        []string{"mirabilis chain: sampled coordinates; stick_k are the membership fractions' stick-breaking reals"},
+		CheckpointPath:  ckPath,
+		CheckpointEvery: cfg.Sampler.CheckpointEvery,
+		Resume:          resuming,
+		MaxDuration:     opts.MaxDuration,
+		Progress:        opts.Progress,
+		ProgressEvery:   max(1, min(100, max(cfg.Sampler.Steps, 100)/50)),
+	}
+	if set.CheckpointEvery == 0 {
+		set.CheckpointEvery = 1 << 30
+	}
+	if cfg.Sampler.Steps == 0 {
+		set.AutoStop = true
+		set.Steps = cfg.Sampler.MaxSteps
+	}
+	first := !resuming
+	set.OnCheckpoint = func(ev mcmc.CheckpointEvent) (mcmc.CheckpointReply, error) {
+		var reply mcmc.CheckpointReply
+		if first {
+			first = false
+			reply.Extra = layouts
+		}
+		if ev.Step == 0 {
+			return reply, nil
+		}
+		// Monitor the quadrature at a few walkers for a sample of sources.
+		w := len(ev.Positions)
+		var at []int
+		for m := range 4 {
+			at = append(at, (ev.Step/max(1, cfg.Sampler.CheckpointEvery)+m*w/4)%w)
+		}
+		sample := make([]int, 0, monitorSources)
+		stride := max(1, nsrc/monitorSources)
+		for i := (ev.Step * 7919) % max(1, stride); i < nsrc && len(sample) < monitorSources; i += stride {
+			sample = append(sample, i)
+		}
+		bad := map[int]float64{}
+		var params []*model.Params
+		for _, k := range at {
+			p, err := job.Post.Params(ev.Positions[k])
+			if err != nil {
+				continue
+			}
+			params = append(params, p)
+			for i, e := range job.Like.Monitor(p, sample) {
+				bad[i] = max(bad[i], e)
+			}
+		}
+		if len(bad) == 0 {
+			return reply, nil
+		}
+		var list []string
+		for _, i := range sample {
+			if e, ok := bad[i]; ok {
+				list = append(list, fmt.Sprintf("%s (%.1e)", job.Like.Sources[i].Name, e))
+			}
+		}
+		refine := ev.Step <= limit && !ev.Final
+		action := "kept as they are (past burn-in)"
+		if refine {
+			action = "refined"
+		}
+		job.logf("step %d: quadrature error above %.0e for %d source(s): %s; panels %s",
+			ev.Step, job.Spec.Tol, len(list), strings.Join(list, ", "), action)
+		if !refine {
+			return reply, nil
+		}
+		for _, i := range sample {
+			if _, ok := bad[i]; ok {
+				if err := job.Like.Refine(i, params); err != nil {
+					return reply, err
+				}
+			}
+		}
+		data, err := job.Like.MarshalLayouts()
+		if err != nil {
+			return reply, err
+		}
+		reply.TargetChanged, reply.Extra = true, data
+		return reply, nil
+	}
+	spread := make([]float64, len(pilot.Spread))
+	for i, s := range pilot.Spread {
+		spread[i] = 0.5 * s
+	}
+	start := mcmc.Start{Center: pilot.MAP, Scale: spread}
+	job.logf("sampling: %d walkers, %d dimensions, seed %d", set.Walkers, len(names), set.Seed)
+	res, err := mcmc.Run(ctx, mcmc.Problem{LogDensity: job.Post.LogDensity, Dim: len(names)}, start, set)
+	if err != nil {
+		updateManifest(dir, func(m *Manifest) { m.State = StateStopped; m.StopReason = err.Error() })
+		return nil, err
+	}
+	out.Result = res
+	if res.Status == mcmc.TimeLimit || res.Status == mcmc.Cancelled {
+		job.logf("stopped at step %d (%s); continue with --resume", res.Step, res.Status)
+		return out, updateManifest(dir, func(m *Manifest) {
+			m.State, m.Step, m.StopReason = StateStopped, res.Step, res.Status.String()
+		})
+	}
+	job.logf("sampling ended at step %d: %s", res.Step, res.Status)
+	sum, err := Summarise(job, res.Chain, res, pilot)
+	if err != nil {
+		return nil, err
+	}
+	out.Summary = sum
+	if err := sum.Write(dir); err != nil {
+		return nil, err
+	}
+	return out, updateManifest(dir, func(m *Manifest) {
+		m.State, m.Step, m.StopReason = StateFinished, res.Step, res.Status.String()
+	})
+}
+
+func moves(s config.Sampler) []mcmc.WeightedMove {
+	var out []mcmc.WeightedMove
+	if s.Moves.Stretch > 0 {
+		out = append(out, mcmc.WeightedMove{Move: mcmc.StretchMove{A: s.StretchScale}, Weight: s.Moves.Stretch})
+	}
+	if s.Moves.DiffEvolution > 0 {
+		out = append(out, mcmc.WeightedMove{Move: mcmc.DifferentialMove{}, Weight: s.Moves.DiffEvolution})
+	}
+	if s.Moves.Walk > 0 {
+		out = append(out, mcmc.WeightedMove{Move: mcmc.WalkMove{Subset: 0}, Weight: s.Moves.Walk})
+	}
+	return out
+}

@@ -1,0 +1,503 @@
+package fit
+
+import (
+	"bytes"
+	"encoding/csv"
+	"fmt"
+	"math"
+	"path/filepath"
+	"slices"
+	"strconv"
+	"strings"
+	"text/tabwriter"
+
+	"github.com/mirabilis-astro/mirabilis/mcmc"
+	"github.com/mirabilis-astro/mirabilis/model"
+)
+
+// Files a finished run adds to its directory.
+const (
+	SummaryText = "summary.txt"  // the posterior summary, for reading
+	SummaryJSON = "summary.json" // the same, for programs
+	SourcesCSV  = "sources.csv"  // per-source membership, distance and peculiar motion
+)
+
+// Quantity summarises the posterior of one parameter or derived quantity.
+type Quantity struct {
+	Name string `json:"name"`
+	// Median and the 68% and 95% central intervals.
+	Median float64 `json:"median"`
+	Lo68   float64 `json:"lo68"`
+	Hi68   float64 `json:"hi68"`
+	Lo95   float64 `json:"lo95"`
+	Hi95   float64 `json:"hi95"`
+	Mean   float64 `json:"mean"`
+	SD     float64 `json:"sd"`
+	// MAP is the value at the maximum a posteriori point (NaN when unknown).
+	MAP float64 `json:"map"`
+	// Tau is the integrated autocorrelation time in steps and ESS the effective sample size.
+	Tau float64 `json:"tau"`
+	ESS float64 `json:"ess"`
+	// Prior is the prior expression of a sampled parameter ("" for derived quantities).
+	Prior string `json:"prior,omitempty"`
+}
+
+// SourceResult is the posterior of one source.
+type SourceResult struct {
+	Name string `json:"name"`
+	// Label is the arm the catalog ties the source to ("" when free).
+	Label string `json:"label"`
+	// Membership holds P(m | data) for the field and each arm, averaged over posterior draws.
+	Membership []float64 `json:"membership"`
+	// Best is the most probable component.
+	Best string `json:"best"`
+	// Distance median and 16th/84th percentiles (kpc), pooled over posterior draws.
+	Distance   float64 `json:"distance"`
+	DistanceLo float64 `json:"distance_lo"`
+	DistanceHi float64 `json:"distance_hi"`
+	// R and Beta (deg) of the median distance under the posterior median parameters.
+	R    float64 `json:"R"`
+	Beta float64 `json:"beta"`
+	// InnerProb is the probability that the source lies inside R_inner.
+	InnerProb float64 `json:"inner_prob"`
+	// U, V, W (km/s) is the peculiar motion relative to circular rotation at the median
+	// distance, with its spread over posterior draws; NaN unless all kinematics are measured.
+	U, V, W          float64 `json:"-"`
+	USD, VSD, WSD    float64 `json:"-"`
+	PeculiarMeasured bool    `json:"peculiar_measured"`
+	// Flags: "inner" (mostly inside R_inner), "excluded" (left out of the fit),
+	// "parallax-conflict" (parallax at odds with the distance bounds).
+	Flags []string `json:"flags"`
+}
+
+// Summary is the posterior summary of a run.
+type Summary struct {
+	Steps      int        `json:"steps"`
+	Walkers    int        `json:"walkers"`
+	Burn       int        `json:"burn"`
+	Samples    int        `json:"samples"`
+	Status     string     `json:"status"`
+	Acceptance float64    `json:"acceptance"`
+	MaxTau     float64    `json:"max_tau"`
+	TauOK      bool       `json:"tau_reliable"`
+	Stuck      []int      `json:"stuck_walkers"`
+	Params     []Quantity `json:"parameters"`
+	Derived    []Quantity `json:"derived"`
+	Components []string   `json:"components"`
+	// MedianValues are the posterior medians of every parameter (fixed ones included) by
+	// name: the "median model" used for figures and source positions.
+	MedianValues map[string]float64 `json:"median_values"`
+	Sources      []SourceResult     `json:"sources"`
+	Quadrature   model.LayoutStats  `json:"quadrature"`
+	// Draws are up to sourceDraws posterior parameter sets (all parameters by name), for
+	// figures with credible bands.
+	Draws []map[string]float64 `json:"-"`
+}
+
+// sourceDraws is the number of posterior draws the per-source results average over.
+const sourceDraws = 100
+
+// Summarise makes the posterior summary of a chain. res may be nil (a chain read back from
+// a file); pilot may be nil.
+func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult) (*Summary, error) {
+	cfg := job.Config
+	rows := chain.Len()
+	if rows < 4 {
+		return nil, fmt.Errorf("summarising: the chain has %d steps; too short", rows)
+	}
+	burn := cfg.Sampler.Burn
+	if burn == 0 {
+		burn = rows / 4
+	}
+	burn = min(burn, rows-2)
+	W := chain.Walkers()
+	s := &Summary{Steps: chain.Step[rows-1], Walkers: W, Burn: burn, Components: components(job.Spec)}
+	if res != nil {
+		s.Status, s.Acceptance, s.TauOK = res.Status.String(), res.MeanAcceptance(), res.TauReliable
+		for _, st := range res.Stuck {
+			s.Stuck = append(s.Stuck, st.Walker)
+		}
+	}
+	s.Quadrature = job.Like.Summary()
+
+	// Every reported quantity at every kept (row, walker) after burn-in.
+	paramNames := append(job.Config.ParamNames(), fractionNames(job.Spec)...)
+	derivedNames := model.DerivedNames(job.Spec)
+	names := append(append([]string(nil), paramNames...), derivedNames...)
+	nq := len(names)
+	n := rows - burn
+	series := make([][][]float64, nq) // [quantity][walker][row]
+	for q := range series {
+		series[q] = make([][]float64, W)
+		for k := range W {
+			series[q][k] = make([]float64, n)
+		}
+	}
+	for t := burn; t < rows; t++ {
+		for k := range W {
+			vals, der := job.values(chain.X[t][k])
+			for q, name := range paramNames {
+				series[q][k][t-burn] = vals[name]
+			}
+			for q, name := range derivedNames {
+				series[len(paramNames)+q][k][t-burn] = der[name]
+			}
+		}
+	}
+	s.Samples = n * W
+	var mapVals, mapDer map[string]float64
+	if pilot != nil {
+		mapVals, mapDer = job.values(pilot.MAP)
+	}
+	free := map[string]string{}
+	for i, name := range job.Config.ParamNames() {
+		if p := job.Config.Priors()[i]; !p.IsFixed() {
+			free[name] = p.String()
+		}
+	}
+	s.MedianValues = map[string]float64{}
+	for q, name := range names {
+		flat := make([]float64, 0, n*W)
+		for k := range W {
+			flat = append(flat, series[q][k]...)
+		}
+		qt := describe(name, flat)
+		qt.MAP = math.NaN()
+		if v, ok := mapVals[name]; ok {
+			qt.MAP = v
+		} else if v, ok := mapDer[name]; ok {
+			qt.MAP = v
+		}
+		if q < len(paramNames) {
+			s.MedianValues[name] = qt.Median
+		}
+		if tau, ok := mcmc.AutocorrTime(series[q], 5); ok || !math.IsNaN(tau) {
+			qt.Tau = tau
+			qt.ESS = float64(n*W) / tau
+		} else {
+			qt.Tau, qt.ESS = math.NaN(), math.NaN()
+		}
+		if q < len(paramNames) {
+			if pr, ok := free[name]; ok || isFraction(name) {
+				qt.Prior = pr
+				if isFraction(name) {
+					qt.Prior = fmt.Sprintf("dirichlet(%g)", cfg.Membership.Concentration)
+				}
+				if !job.Spec.Galaxy && isFraction(name) {
+					continue
+				}
+				s.Params = append(s.Params, qt)
+				if !math.IsNaN(qt.Tau) {
+					s.MaxTau = max(s.MaxTau, qt.Tau)
+				}
+			}
+		} else {
+			s.Derived = append(s.Derived, qt)
+		}
+	}
+	// Posterior draws for the per-source results and the figures.
+	all := chain.Samples(burn)
+	stride := max(1, len(all)/sourceDraws)
+	var draws []*model.Params
+	for i := 0; i < len(all) && len(draws) < sourceDraws; i += stride {
+		p, err := job.Post.Params(all[i])
+		if err != nil {
+			continue
+		}
+		vals, _ := job.values(all[i])
+		draws = append(draws, p)
+		s.Draws = append(s.Draws, vals)
+	}
+	// Medians of the fractions need not add up to one: rescale them for the median model.
+	var fsum float64
+	for _, name := range fractionNames(job.Spec) {
+		fsum += s.MedianValues[name]
+	}
+	for _, name := range fractionNames(job.Spec) {
+		s.MedianValues[name] /= fsum
+	}
+	median, err := job.Spec.NewParams(s.MedianValues)
+	if err != nil {
+		return nil, fmt.Errorf("summarising: posterior medians: %w", err)
+	}
+	s.Sources = SourceResults(job, draws, median)
+	return s, nil
+}
+
+// values returns every parameter's value and the derived quantities at sampled point x.
+func (j *Job) values(x []float64) (map[string]float64, map[string]float64) {
+	vals := j.Post.Values(x)
+	p, err := j.Spec.NewParams(vals)
+	if err != nil {
+		return vals, map[string]float64{}
+	}
+	return vals, model.Derived(p, j.Spec)
+}
+
+func components(s *model.Spec) []string {
+	out := make([]string, s.NumComponents())
+	for m := range out {
+		out[m] = s.ComponentName(m)
+	}
+	return out
+}
+
+func fractionNames(s *model.Spec) []string {
+	out := make([]string, s.NumComponents())
+	for m := range out {
+		out[m] = fractionName(s, m)
+	}
+	return out
+}
+
+func isFraction(name string) bool { return strings.HasPrefix(name, "f_") }
+
+// describe returns the quantiles and moments of a sample, NaN values left out.
+func describe(name string, x []float64) Quantity {
+	v := make([]float64, 0, len(x))
+	for _, a := range x {
+		if !math.IsNaN(a) {
+			v = append(v, a)
+		}
+	}
+	q := Quantity{Name: name}
+	if len(v) == 0 {
+		nan := math.NaN()
+		q.Median, q.Lo68, q.Hi68, q.Lo95, q.Hi95, q.Mean, q.SD = nan, nan, nan, nan, nan, nan, nan
+		return q
+	}
+	slices.Sort(v)
+	qs := mcmc.Quantiles([]float64{0.5, 0.16, 0.84, 0.025, 0.975}, v, nil)
+	q.Median, q.Lo68, q.Hi68, q.Lo95, q.Hi95 = qs[0], qs[1], qs[2], qs[3], qs[4]
+	var sum, sum2 float64
+	for _, a := range v {
+		sum += a
+	}
+	q.Mean = sum / float64(len(v))
+	for _, a := range v {
+		sum2 += (a - q.Mean) * (a - q.Mean)
+	}
+	if len(v) > 1 {
+		q.SD = math.Sqrt(sum2 / float64(len(v)-1))
+	}
+	return q
+}
+
+// SourceResults returns each source's posterior, averaged over the parameter sets draws
+// (memberships averaged; distance masses pooled on the source's fixed nodes; peculiar
+// motions at the pooled median distance), with positions under the median parameters.
+func SourceResults(job *Job, draws []*model.Params, median *model.Params) []SourceResult {
+	L, spec := job.Like, job.Spec
+	nc := spec.NumComponents()
+	out := make([]SourceResult, len(L.Sources))
+	rInner := spec.Bar.RInner
+	workers := job.Config.Sampler.Threads
+	model.Parallel(len(L.Sources), workers, func(i int) {
+		src := &L.Sources[i]
+		r := SourceResult{Name: src.Name, Membership: make([]float64, nc)}
+		if src.Label > 0 {
+			r.Label = spec.Arms[src.Label-1].Name
+		}
+		d := L.NodeDistances(i)
+		pooled := make([]float64, len(d))
+		memb := make([]float64, nc)
+		var mass []float64
+		for _, p := range draws {
+			L.SourceDetail(i, p, memb)
+			for m := range memb {
+				r.Membership[m] += memb[m] / float64(len(draws))
+			}
+			mass = L.NodeMasses(i, p, mass)
+			for j := range mass {
+				pooled[j] += mass[j] / float64(len(draws))
+			}
+		}
+		best := 0
+		for m := range r.Membership {
+			if r.Membership[m] > r.Membership[best] {
+				best = m
+			}
+		}
+		r.Best = spec.ComponentName(best)
+		r.Distance = model.MassQuantile(d, pooled, 0.5)
+		r.DistanceLo = model.MassQuantile(d, pooled, 0.16)
+		r.DistanceHi = model.MassQuantile(d, pooled, 0.84)
+		R, cb, sb := src.Sight.InPlane(median.Motion.R0(), r.Distance)
+		r.R, r.Beta = R, math.Atan2(sb, cb)*180/math.Pi
+		for j := range d {
+			if Rj, _, _ := src.Sight.InPlane(median.Motion.R0(), d[j]); Rj < rInner {
+				r.InnerProb += pooled[j]
+			}
+		}
+		r.U, r.V, r.W, r.USD, r.VSD, r.WSD = math.NaN(), math.NaN(), math.NaN(), math.NaN(), math.NaN(), math.NaN()
+		if src.HasV && src.HasPM[0] && src.HasPM[1] {
+			r.PeculiarMeasured = true
+			var us, vs, ws []float64
+			for _, p := range draws {
+				mul, mub := src.PM[0], src.PM[1]
+				if !src.PMGalactic {
+					mul, mub = src.Sight.PMToGalactic(mul, mub)
+				}
+				vh := src.V
+				if src.VLSR {
+					vh = src.Sight.LSRToHelio(vh)
+				}
+				uvw := p.Motion.PeculiarMotion(&src.Sight, r.Distance, mul, mub, vh)
+				us, vs, ws = append(us, uvw.U), append(vs, uvw.V), append(ws, uvw.W)
+			}
+			r.U, r.USD = meanSD(us)
+			r.V, r.VSD = meanSD(vs)
+			r.W, r.WSD = meanSD(ws)
+		}
+		if r.InnerProb > 0.5 {
+			r.Flags = append(r.Flags, "inner")
+		}
+		if L.Excluded[i] {
+			r.Flags = append(r.Flags, "excluded")
+		}
+		if L.Contradicts[i] {
+			r.Flags = append(r.Flags, "parallax-conflict")
+		}
+		out[i] = r
+	})
+	return out
+}
+
+func meanSD(x []float64) (float64, float64) {
+	if len(x) == 0 {
+		return math.NaN(), math.NaN()
+	}
+	var s, s2 float64
+	for _, v := range x {
+		s += v
+	}
+	m := s / float64(len(x))
+	for _, v := range x {
+		s2 += (v - m) * (v - m)
+	}
+	if len(x) < 2 {
+		return m, math.NaN()
+	}
+	return m, math.Sqrt(s2 / float64(len(x)-1))
+}
+
+// Text renders the summary for reading.
+func (s *Summary) Text() string {
+	var b bytes.Buffer
+	fmt.Fprintf(&b, "Posterior summary: %d steps × %d walkers, first %d steps discarded, %d samples; %s\n",
+		s.Steps, s.Walkers, s.Burn, s.Samples, s.Status)
+	fmt.Fprintf(&b, "Acceptance fraction %.3f; longest autocorrelation time %.1f steps (chain = %.0f τ)",
+		s.Acceptance, s.MaxTau, float64(s.Steps)/math.Max(s.MaxTau, 1e-300))
+	if !s.TauOK {
+		fmt.Fprint(&b, "; τ estimates not yet reliable: run longer")
+	}
+	fmt.Fprintln(&b)
+	if len(s.Stuck) > 0 {
+		fmt.Fprintf(&b, "Walkers that look stuck: %v\n", s.Stuck)
+	}
+	fmt.Fprintf(&b, "Distance quadrature: %d nodes per source (median; %d to %d)\n\n",
+		s.Quadrature.MedianNodes, s.Quadrature.MinNodes, s.Quadrature.MaxNodes)
+	table := func(title string, qs []Quantity) {
+		fmt.Fprintln(&b, title)
+		tw := tabwriter.NewWriter(&b, 0, 0, 2, ' ', tabwriter.AlignRight)
+		fmt.Fprintln(tw, "quantity\tmedian\t−68%\t+68%\t95% interval\tMAP\tτ\tESS\t")
+		for _, q := range qs {
+			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t[%s, %s]\t%s\t%s\t%s\t\n", q.Name, num(q.Median), num(q.Median-q.Lo68), num(q.Hi68-q.Median),
+				num(q.Lo95), num(q.Hi95), num(q.MAP), fixed1(q.Tau), fixed0(q.ESS))
+		}
+		tw.Flush()
+		fmt.Fprintln(&b)
+	}
+	table("Parameters", s.Params)
+	table("Derived quantities", s.Derived)
+	counts := make([]int, len(s.Components))
+	for _, r := range s.Sources {
+		for m, c := range s.Components {
+			if r.Best == c {
+				counts[m]++
+			}
+		}
+	}
+	fmt.Fprint(&b, "Most probable component of each source:")
+	for m, c := range s.Components {
+		fmt.Fprintf(&b, " %s %d", c, counts[m])
+		if m < len(s.Components)-1 {
+			fmt.Fprint(&b, ",")
+		}
+	}
+	fmt.Fprintln(&b)
+	return b.String()
+}
+
+func num(x float64) string {
+	if math.IsNaN(x) {
+		return "–"
+	}
+	a := math.Abs(x)
+	switch {
+	case a == 0:
+		return "0"
+	case a >= 1000 || a < 0.001:
+		return strconv.FormatFloat(x, 'e', 3, 64)
+	case a >= 100:
+		return strconv.FormatFloat(x, 'f', 1, 64)
+	case a >= 1:
+		return strconv.FormatFloat(x, 'f', 3, 64)
+	default:
+		return strconv.FormatFloat(x, 'f', 4, 64)
+	}
+}
+
+func fixed1(x float64) string {
+	if math.IsNaN(x) {
+		return "–"
+	}
+	return strconv.FormatFloat(x, 'f', 1, 64)
+}
+
+func fixed0(x float64) string {
+	if math.IsNaN(x) {
+		return "–"
+	}
+	return strconv.FormatFloat(x, 'f', 0, 64)
+}
+
+// SourcesTable renders the per-source results as CSV.
+func (s *Summary) SourcesTable() []byte {
+	var b bytes.Buffer
+	w := csv.NewWriter(&b)
+	head := []string{"name", "label", "best"}
+	for _, c := range s.Components {
+		head = append(head, "p_"+c)
+	}
+	head = append(head, "distance", "distance_lo", "distance_hi", "R", "beta", "inner_prob", "U", "U_sd", "V", "V_sd", "W", "W_sd", "flags")
+	w.Write(head)
+	f := func(x float64) string {
+		if math.IsNaN(x) {
+			return ""
+		}
+		return strconv.FormatFloat(x, 'g', 6, 64)
+	}
+	for _, r := range s.Sources {
+		row := []string{r.Name, r.Label, r.Best}
+		for _, p := range r.Membership {
+			row = append(row, strconv.FormatFloat(p, 'f', 4, 64))
+		}
+		row = append(row, f(r.Distance), f(r.DistanceLo), f(r.DistanceHi), f(r.R), f(r.Beta), f(r.InnerProb),
+			f(r.U), f(r.USD), f(r.V), f(r.VSD), f(r.W), f(r.WSD), strings.Join(r.Flags, ";"))
+		w.Write(row)
+	}
+	w.Flush()
+	return b.Bytes()
+}
+
+// Write writes the summary's files into a run directory, each atomically.
+func (s *Summary) Write(dir string) error {
+	if err := WriteFileAtomic(filepath.Join(dir, SummaryText), []byte(s.Text())); err != nil {
+		return err
+	}
+	if err := WriteFileAtomic(filepath.Join(dir, SourcesCSV), s.SourcesTable()); err != nil {
+		return err
+	}
+	return writeJSON(filepath.Join(dir, SummaryJSON), jsonSafe(s))
+}

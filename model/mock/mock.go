@@ -1,0 +1,443 @@
+// Package mock draws mock catalogs from the model with known parameters: sources along each
+// spiral arm and in the field disk, moving with the model's rotation and peculiar motions
+// plus their intrinsic scatter, seen through a survey-like selection (a declination range,
+// a distance limit, a number of sources) with measurement errors that grow with distance.
+//
+// A mock is described by a run configuration (see package config) whose parameter priors
+// give the true values (each prior's median; write them as fixed values), with one more
+// table, [survey]:
+//
+//	[survey]
+//	sources = 150                  # number of sources drawn
+//	seed = 7                       # seed of the draws
+//	declination_range = [-30, 90]  # deg: what the survey's telescopes can see
+//	max_distance = 16              # kpc: farther sources are too faint
+//	min_distance = 0.3             # kpc
+//	fractions = { field = 0.15, Corvid = 0.25 }  # membership shares; arms not named share the rest equally
+//	height = 0.03                  # kpc: Gaussian thickness of the disk of sources
+//	parallax_error = [0.008, 0.004]   # mas: σϖ = a + b·d (d in kpc)
+//	proper_motion_error = [0.03, 0.02] # mas/yr: σμ = a + b·d
+//	velocity_error = 3             # km/s
+//	labelled = 0.1                 # share of arm sources whose arm is written in the catalog
+//	galactic_share = 0.0           # share of sources whose position and proper motion are written in (l, b)
+//	missing_share = 0.05           # share of sources with one kinematic term left blank
+package mock
+
+import (
+	"bytes"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"regexp"
+	"strconv"
+	"strings"
+
+	toml "github.com/pelletier/go-toml/v2"
+
+	"github.com/mirabilis-astro/mirabilis/model"
+	"github.com/mirabilis-astro/mirabilis/model/catalog"
+	"github.com/mirabilis-astro/mirabilis/model/config"
+)
+
+// Survey describes the mock survey: how many sources, where it can see, how well it measures.
+type Survey struct {
+	Sources          int                `toml:"sources"`
+	Seed             uint64             `toml:"seed"`
+	DecRange         [2]float64         `toml:"declination_range"`
+	MaxDistance      float64            `toml:"max_distance"`
+	MinDistance      float64            `toml:"min_distance"`
+	Fractions        map[string]float64 `toml:"fractions"`
+	Height           float64            `toml:"height"`
+	ParallaxError    [2]float64         `toml:"parallax_error"`
+	ProperMotionErr  [2]float64         `toml:"proper_motion_error"`
+	VelocityError    float64            `toml:"velocity_error"`
+	Labelled         float64            `toml:"labelled"`
+	GalacticShare    float64            `toml:"galactic_share"`
+	MissingShare     float64            `toml:"missing_share"`
+	fractionsOrdered []float64
+}
+
+// DefaultSurvey returns the survey settings used for keys the [survey] table leaves out.
+func DefaultSurvey() Survey {
+	return Survey{
+		Sources: 150, Seed: 1, DecRange: [2]float64{-30, 90}, MaxDistance: 16, MinDistance: 0.3,
+		Height: 0.03, ParallaxError: [2]float64{0.008, 0.004}, ProperMotionErr: [2]float64{0.03, 0.02},
+		VelocityError: 3, Labelled: 0.1, MissingShare: 0.05,
+	}
+}
+
+// Model is a mock's configuration: the model with its true parameter values and the survey.
+type Model struct {
+	Config *config.Config
+	Survey Survey
+	// Truth holds the true value of every parameter, fractions included, by name.
+	Truth map[string]float64
+}
+
+var surveyHeader = regexp.MustCompile(`^\s*\[\s*survey\s*\]\s*(#.*)?$`)
+var tableHeader = regexp.MustCompile(`^\s*\[`)
+
+// Load reads a mock description: a run configuration with a [survey] table. The catalog
+// key of the configuration names the file the mock catalog is meant for; it need not exist.
+func Load(path string) (*Model, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return nil, fmt.Errorf("reading mock description: %w", err)
+	}
+	return Parse(data, path, filepath.Dir(path))
+}
+
+// Parse reads a mock description from data; name is used in messages and baseDir resolves
+// relative paths.
+func Parse(data []byte, name, baseDir string) (*Model, error) {
+	// Split off the [survey] table, keeping line numbers for the configuration's messages.
+	lines := strings.Split(string(data), "\n")
+	var survey, rest []string
+	in := false
+	for _, l := range lines {
+		switch {
+		case surveyHeader.MatchString(l):
+			in = true
+		case in && tableHeader.MatchString(l):
+			in = false
+		}
+		if in {
+			survey = append(survey, l)
+			rest = append(rest, "")
+		} else {
+			survey = append(survey, "")
+			rest = append(rest, l)
+		}
+	}
+	s := DefaultSurvey()
+	dec := toml.NewDecoder(bytes.NewReader([]byte(strings.Join(survey, "\n"))))
+	dec.DisallowUnknownFields()
+	var wrap struct {
+		Survey *Survey `toml:"survey"`
+	}
+	wrap.Survey = &s
+	if err := dec.Decode(&wrap); err != nil {
+		var de *toml.DecodeError
+		var sm *toml.StrictMissingError
+		switch {
+		case asError(err, &sm):
+			return nil, fmt.Errorf("%s: [survey]: %s", name, strings.TrimSpace(sm.String()))
+		case asError(err, &de):
+			row, col := de.Position()
+			return nil, fmt.Errorf("%s:%d:%d: [survey]: %v", name, row, col, de)
+		}
+		return nil, fmt.Errorf("%s: [survey]: %w", name, err)
+	}
+	cfg, err := parseConfigAllowingMissingCatalog([]byte(strings.Join(rest, "\n")), name, baseDir)
+	if err != nil {
+		return nil, err
+	}
+	m := &Model{Config: cfg, Survey: s, Truth: map[string]float64{}}
+	for i, n := range cfg.ParamNames() {
+		m.Truth[n] = cfg.Priors()[i].Quantile(0.5)
+	}
+	if err := m.checkSurvey(name); err != nil {
+		return nil, err
+	}
+	return m, nil
+}
+
+// parseConfigAllowingMissingCatalog parses a configuration whose catalog may not exist yet
+// (the mock is about to write it).
+func parseConfigAllowingMissingCatalog(data []byte, name, baseDir string) (*config.Config, error) {
+	cfg, err := config.Parse(data, name, baseDir)
+	if err == nil {
+		return cfg, nil
+	}
+	var errs config.Errors
+	if !asError(err, &errs) {
+		return nil, err
+	}
+	var keep config.Errors
+	for _, e := range errs {
+		if e.Key != "catalog" {
+			keep = append(keep, e)
+		}
+	}
+	if len(keep) > 0 {
+		return nil, keep
+	}
+	// Only the catalog was missing: parse again against a placeholder that exists.
+	tmp, terr := os.CreateTemp("", "mirabilis-mock-*.csv")
+	if terr != nil {
+		return nil, terr
+	}
+	tmp.Close()
+	defer os.Remove(tmp.Name())
+	re := regexp.MustCompile(`(?m)^(\s*catalog\s*=\s*)(".*?"|'.*?')`)
+	var orig string
+	patched := re.ReplaceAllStringFunc(string(data), func(s string) string {
+		sub := re.FindStringSubmatch(s)
+		orig = sub[2]
+		return sub[1] + strconv.Quote(tmp.Name())
+	})
+	cfg, err = config.Parse([]byte(patched), name, baseDir)
+	if err != nil {
+		return nil, err
+	}
+	if unq, uerr := strconv.Unquote(orig); uerr == nil {
+		orig = unq
+	} else {
+		orig = strings.Trim(orig, "'")
+	}
+	if !filepath.IsAbs(orig) {
+		orig = filepath.Join(cfg.BaseDir, orig)
+	}
+	cfg.Catalog = orig
+	return cfg, nil
+}
+
+func (m *Model) checkSurvey(name string) error {
+	s := &m.Survey
+	bad := func(key, format string, a ...any) error {
+		return fmt.Errorf("%s: [survey] %s: %s", name, key, fmt.Sprintf(format, a...))
+	}
+	switch {
+	case s.Sources < 1:
+		return bad("sources", "%d: want at least one source", s.Sources)
+	case !(s.DecRange[0] < s.DecRange[1]) || s.DecRange[0] < -90 || s.DecRange[1] > 90:
+		return bad("declination_range", "%v: want −90 ≤ low < high ≤ 90", s.DecRange)
+	case !(s.MinDistance >= 0 && s.MaxDistance > s.MinDistance):
+		return bad("max_distance", "%g (min_distance %g): want 0 ≤ min < max", s.MaxDistance, s.MinDistance)
+	case !(s.ParallaxError[0] > 0 && s.ParallaxError[1] >= 0):
+		return bad("parallax_error", "%v: want a > 0, b ≥ 0", s.ParallaxError)
+	case !(s.ProperMotionErr[0] > 0 && s.ProperMotionErr[1] >= 0):
+		return bad("proper_motion_error", "%v: want a > 0, b ≥ 0", s.ProperMotionErr)
+	case !(s.VelocityError > 0):
+		return bad("velocity_error", "%g: want a positive number", s.VelocityError)
+	case !(s.Height >= 0):
+		return bad("height", "%g: must not be negative", s.Height)
+	}
+	for _, share := range []struct {
+		key string
+		v   float64
+	}{{"labelled", s.Labelled}, {"galactic_share", s.GalacticShare}, {"missing_share", s.MissingShare}} {
+		if !(share.v >= 0 && share.v <= 1) {
+			return bad(share.key, "%g: want a share between 0 and 1", share.v)
+		}
+	}
+	arms := m.Config.Arms
+	known := map[string]bool{"field": true}
+	for _, a := range arms {
+		known[a.Name] = true
+	}
+	var given float64
+	for k, v := range s.Fractions {
+		if !known[k] {
+			return bad("fractions", "%q is neither \"field\" nor an arm of the model", k)
+		}
+		if !(v >= 0) {
+			return bad("fractions", "%s = %g must not be negative", k, v)
+		}
+		given += v
+	}
+	if given > 1+1e-9 {
+		return bad("fractions", "shares add up to %g, more than 1", given)
+	}
+	n := 1 + len(arms)
+	names := append([]string{"field"}, make([]string, len(arms))...)
+	for i, a := range arms {
+		names[i+1] = a.Name
+	}
+	unnamed := 0
+	for _, nm := range names {
+		if _, ok := s.Fractions[nm]; !ok {
+			unnamed++
+		}
+	}
+	s.fractionsOrdered = make([]float64, n)
+	for i, nm := range names {
+		if v, ok := s.Fractions[nm]; ok {
+			s.fractionsOrdered[i] = v
+		} else if unnamed > 0 {
+			s.fractionsOrdered[i] = (1 - given) / float64(unnamed)
+		}
+	}
+	var sum float64
+	for _, v := range s.fractionsOrdered {
+		sum += v
+	}
+	if !(sum > 0) {
+		return bad("fractions", "every share is zero")
+	}
+	for i, nm := range names {
+		s.fractionsOrdered[i] /= sum
+		frac := config.FieldFraction
+		if i > 0 {
+			frac = "f_" + nm
+		}
+		m.Truth[frac] = s.fractionsOrdered[i]
+	}
+	return nil
+}
+
+// Truth is what the mock knows of one source and the catalog does not say.
+type Truth struct {
+	Name      string
+	Component string // "field" or the arm's name
+	Distance  float64
+	R, Beta   float64 // kpc, deg
+	Z         float64 // kpc
+}
+
+// Draw draws the mock catalog. seed, when not nil, replaces the survey's seed. The same
+// description and seed give the same catalog.
+func (m *Model) Draw(seed *uint64) ([]catalog.Source, []Truth, error) {
+	s := m.Survey
+	if seed != nil {
+		s.Seed = *seed
+	}
+	spec, err := model.SpecFromConfig(m.Config)
+	if err != nil {
+		return nil, nil, err
+	}
+	p, err := spec.NewParams(m.Truth)
+	if err != nil {
+		return nil, nil, fmt.Errorf("true parameters: %w", err)
+	}
+	rng := rand.New(rand.NewPCG(s.Seed, 0x6d6f636b))
+	R0 := p.Motion.R0()
+	cum := make([]float64, len(s.fractionsOrdered))
+	var c float64
+	for i, f := range s.fractionsOrdered {
+		c += f
+		cum[i] = c
+	}
+	var out []catalog.Source
+	var truth []Truth
+	for tries := 0; len(out) < s.Sources; tries++ {
+		if tries > 1000*s.Sources {
+			return nil, nil, fmt.Errorf("the survey's selection accepts too few sources (%d after %d draws): widen declination_range or max_distance", len(out), tries)
+		}
+		u := rng.Float64()
+		comp := 0
+		for comp < len(cum)-1 && u > cum[comp] {
+			comp++
+		}
+		var R, beta float64
+		if comp == 0 {
+			h := spec.DiskScale
+			R = -h * math.Log(rng.Float64()*rng.Float64()) // Gamma(2, h): ρ ∝ e^(−R/h) per unit area
+			beta = (2*rng.Float64() - 1) * math.Pi
+		} else {
+			a := p.Layout.Arms[comp-1]
+			beta = a.BetaStart + rng.Float64()*(a.BetaEnd-a.BetaStart)
+			Rk := a.Radius(beta)
+			w := math.Max(a.Width+p.Layout.WidthSlope*(Rk-R0), 0.01)
+			R = Rk + w*rng.NormFloat64()/math.Cos(a.PitchAt(beta))
+			if R <= 0 {
+				continue
+			}
+		}
+		z := s.Height * rng.NormFloat64()
+		px, py := R0-R*math.Cos(beta), R*math.Sin(beta)
+		dIn := math.Hypot(px, py)
+		d := math.Hypot(dIn, z)
+		if d < s.MinDistance || d > s.MaxDistance || d < spec.DMin {
+			continue
+		}
+		l := math.Atan2(py, px) / deg
+		if l < 0 {
+			l += 360
+		}
+		b := math.Atan2(z, dIn) / deg
+		ra, decl := model.GalacticToICRS(l, b)
+		if decl < s.DecRange[0] || decl > s.DecRange[1] {
+			continue
+		}
+		sl := model.NewSightline(l, b)
+		// True velocity: the model's mean motion plus the intrinsic scatter σ(R) in each
+		// of û, v̂, ẑ at the source.
+		pr := p.Motion.Predict(&sl, d)
+		sig := math.Sqrt(spec.Bar.Variance(pr.R, p.SigmaVir))
+		du, dv, dw := sig*rng.NormFloat64(), sig*rng.NormFloat64(), sig*rng.NormFloat64()
+		cb, sb := pr.CosBeta, pr.SinBeta
+		ex := du*cb + dv*sb // û = (cos β, −sin β, 0), v̂ = (sin β, cos β, 0)
+		ey := -du*sb + dv*cb
+		h := ex*sl.CosL + ey*sl.SinL
+		vl := ey*sl.CosL - ex*sl.SinL
+		vr := h*sl.CosB + dw*sl.SinB
+		vb := dw*sl.CosB - h*sl.SinB
+		kd := model.KmsPerKpcMasYr * d
+		muL, muB := pr.MuLStar+vl/kd, pr.MuB+vb/kd
+		vLSR := pr.VLSR + vr
+
+		i := len(out) + 1
+		src := catalog.Source{Name: fmt.Sprintf("mock-%04d", i)}
+		galactic := rng.Float64() < s.GalacticShare
+		sp := s.ParallaxError[0] + s.ParallaxError[1]*d
+		src.Parallax = catalog.Measurement{Value: round(1/d+sp*rng.NormFloat64(), 5), Err: round(sp, 5), OK: true}
+		sm := s.ProperMotionErr[0] + s.ProperMotionErr[1]*d
+		m1, m2 := muL, muB
+		if galactic {
+			src.Frame, src.Lon, src.Lat, src.PMFrame = catalog.Galactic, round(l, 6), round(b, 6), catalog.Galactic
+		} else {
+			src.Frame, src.Lon, src.Lat = catalog.Equatorial, round(ra, 6), round(decl, 6)
+			m1, m2 = sl.PMToEquatorial(muL, muB)
+		}
+		// Positions are written to 1e-6 deg; rebuild the sightline from what is written so
+		// that the catalog is self-consistent.
+		src.PM1 = catalog.Measurement{Value: round(m1+sm*rng.NormFloat64(), 4), Err: round(sm, 4), OK: true}
+		src.PM2 = catalog.Measurement{Value: round(m2+sm*rng.NormFloat64(), 4), Err: round(sm, 4), OK: true}
+		src.VelLSR = true
+		src.Vel = catalog.Measurement{Value: round(vLSR+s.VelocityError*rng.NormFloat64(), 2), Err: s.VelocityError, OK: true}
+		if rng.Float64() < s.MissingShare {
+			switch rng.IntN(3) {
+			case 0:
+				src.Vel, src.VelLSR = catalog.Measurement{}, false
+			case 1:
+				src.PM1 = catalog.Measurement{}
+			default:
+				src.PM2 = catalog.Measurement{}
+			}
+		}
+		name := "field"
+		if comp > 0 {
+			name = spec.Arms[comp-1].Name
+			if rng.Float64() < s.Labelled {
+				src.Arm = name
+			}
+		}
+		out = append(out, src)
+		truth = append(truth, Truth{Name: src.Name, Component: name, Distance: d, R: R, Beta: beta / deg, Z: z})
+	}
+	return out, truth, nil
+}
+
+const deg = math.Pi / 180
+
+func round(x float64, digits int) float64 {
+	p := math.Pow(10, float64(digits))
+	return math.Round(x*p) / p
+}
+
+// WriteTruth writes the true values of the sources as CSV: name, component, distance (kpc),
+// R (kpc), beta (deg), z (kpc).
+func WriteTruth(w *bytes.Buffer, truth []Truth) {
+	w.WriteString("name,component,distance,R,beta,z\n")
+	for _, t := range truth {
+		fmt.Fprintf(w, "%s,%s,%.6f,%.6f,%.4f,%.5f\n", t.Name, t.Component, t.Distance, t.R, t.Beta, t.Z)
+	}
+}
+
+func asError[T any](err error, target *T) bool {
+	for err != nil {
+		if t, ok := err.(T); ok {
+			*target = t
+			return true
+		}
+		u, ok := err.(interface{ Unwrap() error })
+		if !ok {
+			return false
+		}
+		err = u.Unwrap()
+	}
+	return false
+}

@@ -1,0 +1,261 @@
+package model
+
+import (
+	"bytes"
+	"encoding/binary"
+	"errors"
+	"fmt"
+	"math"
+	"slices"
+
+	"github.com/mirabilis-astro/mirabilis/arms"
+	"github.com/mirabilis-astro/mirabilis/model/quad"
+)
+
+// scanPoints is the number of points of the even grid in u = ln d on which each pilot's
+// integrand and kinematic residuals are scanned for features before the panels are laid out.
+const scanPoints = 600
+
+// LayoutStats summarises the quadratures of all sources.
+type LayoutStats struct {
+	// MinNodes, MedianNodes and MaxNodes count the nodes per source.
+	MinNodes, MedianNodes, MaxNodes int
+	// TotalNodes is the sum over sources.
+	TotalNodes int
+	// Unconverged lists the sources whose refinement stopped before meeting the tolerance.
+	Unconverged []string
+	// MaxError is the largest estimated error of ln L_i at any pilot.
+	MaxError float64
+}
+
+// BuildLayouts lays out every source's quadrature panels so that ln L_i is resolved to the
+// spec's tolerance at each of the pilot parameter sets (MODEL §5): the range is ±5σ in
+// parallax clipped to the distance bounds, split at the integrand's features (each arm
+// crossing ± one and three widths, the distances where a predicted kinematic quantity equals
+// the observed one, the parallax peak and every local maximum of the scanned integrand),
+// refined by Gauss–Kronrod error estimates, pruned and merged (package quad). workers
+// sources are laid out at once (GOMAXPROCS when ≤ 0); the result does not depend on it.
+func (L *Likelihood) BuildLayouts(pilots []*Params, workers int) (LayoutStats, error) {
+	if len(pilots) == 0 {
+		return LayoutStats{}, errors.New("model: laying out quadratures needs at least one pilot parameter set")
+	}
+	grids := make([]*grid, len(L.Sources))
+	stats := make([]quad.Stats, len(L.Sources))
+	errs := make([]error, len(L.Sources))
+	Parallel(len(L.Sources), workers, func(i int) {
+		l, st, err := L.layoutSource(i, pilots)
+		if err != nil {
+			errs[i] = fmt.Errorf("source %s: %w", L.Sources[i].Name, err)
+			return
+		}
+		grids[i], stats[i] = newGrid(L.Spec, &L.Sources[i], l), st
+	})
+	if err := errors.Join(errs...); err != nil {
+		return LayoutStats{}, err
+	}
+	L.grids = grids
+	return L.summarise(stats), nil
+}
+
+func (L *Likelihood) summarise(stats []quad.Stats) LayoutStats {
+	var ls LayoutStats
+	counts := make([]int, len(L.grids))
+	for i, g := range L.grids {
+		counts[i] = g.layout.Len()
+		ls.TotalNodes += counts[i]
+		if stats != nil {
+			if !stats[i].Converged {
+				ls.Unconverged = append(ls.Unconverged, L.Sources[i].Name)
+			}
+			for _, e := range stats[i].Error {
+				ls.MaxError = max(ls.MaxError, e)
+			}
+		}
+	}
+	if len(counts) > 0 {
+		slices.Sort(counts)
+		ls.MinNodes, ls.MaxNodes, ls.MedianNodes = counts[0], counts[len(counts)-1], counts[len(counts)/2]
+	}
+	return ls
+}
+
+// pilotFuncs returns the source's log-integrand in u at each pilot.
+func (L *Likelihood) pilotFuncs(i int, pilots []*Params) []func(float64) float64 {
+	s := &L.Sources[i]
+	fs := make([]func(float64) float64, len(pilots))
+	for k, p := range pilots {
+		comp := make([]float64, L.Spec.NumComponents())
+		fs[k] = func(u float64) float64 { return s.LogIntegrand(L.Spec, p, u, comp) }
+	}
+	return fs
+}
+
+// layoutSource lays out the quadrature of source i.
+func (L *Likelihood) layoutSource(i int, pilots []*Params) (*quad.Layout, quad.Stats, error) {
+	s := &L.Sources[i]
+	dlo, dhi, _ := s.DistanceRange(L.Spec)
+	lo, hi := math.Log(dlo), math.Log(dhi)
+	fs := L.pilotFuncs(i, pilots)
+	breaks := L.features(s, pilots, fs, lo, hi)
+	set := quad.Settings{Tol: L.Spec.Tol}
+	return quad.Build(lo, hi, breaks, fs, &set)
+}
+
+// features returns candidate breakpoints in u for source s: where the integrand may change
+// sharply at some pilot.
+func (L *Likelihood) features(s *Source, pilots []*Params, fs []func(float64) float64, lo, hi float64) []float64 {
+	var br []float64
+	add := func(u float64) {
+		if u > lo && u < hi && !math.IsNaN(u) {
+			br = append(br, u)
+		}
+	}
+	if s.Plx > 0 {
+		add(-math.Log(s.Plx))
+	}
+	var cross []arms.Crossing
+	cb := s.Sight.CosB
+	for _, p := range pilots {
+		if L.Spec.Galaxy {
+			for k, a := range p.Layout.Arms {
+				cross, _ = a.Crossings(cross[:0], p.Motion.R0(), s.Sight.L, math.Exp(hi)*cb, 30*L.Spec.EdgeSoftening)
+				w := p.Layout.Arms[k].Width
+				for _, c := range cross {
+					d := c.D / cb
+					add(math.Log(d))
+					for _, off := range []float64{-3, -1, 1, 3} {
+						if dd := d + off*w/cb; dd > 0 {
+							add(math.Log(dd))
+						}
+					}
+				}
+			}
+		}
+	}
+	// Scan each pilot's integrand and residuals on an even grid.
+	step := (hi - lo) / (scanPoints - 1)
+	vals := make([]float64, scanPoints)
+	var prev [3]float64
+	for k, p := range pilots {
+		for j := range scanPoints {
+			u := lo + float64(j)*step
+			vals[j] = fs[k](u)
+			res := s.residuals(p, math.Exp(u))
+			for c, r := range res {
+				if j > 0 && !math.IsNaN(r) && !math.IsNaN(prev[c]) && (r > 0) != (prev[c] > 0) {
+					add(u - step/2)
+				}
+				prev[c] = r
+			}
+		}
+		for j := 1; j < scanPoints-1; j++ {
+			if vals[j] >= vals[j-1] && vals[j] > vals[j+1] {
+				u := lo + float64(j)*step
+				add(u - step)
+				add(u + step)
+			}
+		}
+	}
+	slices.Sort(br)
+	return slices.Compact(br)
+}
+
+// residuals returns the observed-minus-predicted line-of-sight velocity and proper motions
+// of s at distance d under p, NaN for absent terms.
+func (s *Source) residuals(p *Params, d float64) [3]float64 {
+	r := [3]float64{math.NaN(), math.NaN(), math.NaN()}
+	pr := p.Motion.Predict(&s.Sight, d)
+	if s.HasV {
+		if s.VLSR {
+			r[0] = s.V - pr.VLSR
+		} else {
+			r[0] = s.V - pr.VHelio
+		}
+	}
+	m1, m2 := pr.MuAlphaStar, pr.MuDelta
+	if s.PMGalactic {
+		m1, m2 = pr.MuLStar, pr.MuB
+	}
+	if s.HasPM[0] {
+		r[1] = s.PM[0] - m1
+	}
+	if s.HasPM[1] {
+		r[2] = s.PM[1] - m2
+	}
+	return r
+}
+
+// Monitor re-estimates the quadrature error of ln L_i at parameter set p for the sources
+// listed (all when nil) and returns those above the tolerance with their estimates.
+func (L *Likelihood) Monitor(p *Params, sources []int) map[int]float64 {
+	if sources == nil {
+		sources = make([]int, len(L.Sources))
+		for i := range sources {
+			sources[i] = i
+		}
+	}
+	out := map[int]float64{}
+	for _, i := range sources {
+		if e := L.ErrorEstimate(i, p); !(e <= L.Spec.Tol) {
+			out[i] = e
+		}
+	}
+	return out
+}
+
+// Refine refines the quadrature of source i so that it meets the tolerance at the given
+// parameter sets too, keeping its other panels.
+func (L *Likelihood) Refine(i int, at []*Params) error {
+	set := quad.Settings{Tol: L.Spec.Tol}
+	l, _, err := quad.Refine(L.grids[i].layout, L.pilotFuncs(i, at), &set)
+	if err != nil {
+		return fmt.Errorf("source %s: %w", L.Sources[i].Name, err)
+	}
+	L.grids[i] = newGrid(L.Spec, &L.Sources[i], l)
+	return nil
+}
+
+// MarshalLayouts encodes every source's quadrature layout, so that a resumed run uses
+// exactly the nodes the uninterrupted run would have used.
+func (L *Likelihood) MarshalLayouts() ([]byte, error) {
+	var b bytes.Buffer
+	binary.Write(&b, binary.LittleEndian, uint32(len(L.grids)))
+	for _, g := range L.grids {
+		data, err := g.layout.MarshalBinary()
+		if err != nil {
+			return nil, err
+		}
+		binary.Write(&b, binary.LittleEndian, uint32(len(data)))
+		b.Write(data)
+	}
+	return b.Bytes(), nil
+}
+
+// UnmarshalLayouts restores layouts saved by MarshalLayouts.
+func (L *Likelihood) UnmarshalLayouts(data []byte) error {
+	r := bytes.NewReader(data)
+	var n uint32
+	if err := binary.Read(r, binary.LittleEndian, &n); err != nil || int(n) != len(L.Sources) {
+		return fmt.Errorf("model: saved quadratures are for %d sources, the catalog has %d", n, len(L.Sources))
+	}
+	grids := make([]*grid, n)
+	for i := range grids {
+		var m uint32
+		if err := binary.Read(r, binary.LittleEndian, &m); err != nil || int(m) > r.Len() {
+			return errors.New("model: saved quadratures are truncated")
+		}
+		buf := make([]byte, m)
+		r.Read(buf)
+		var l quad.Layout
+		if err := l.UnmarshalBinary(buf); err != nil {
+			return fmt.Errorf("model: saved quadrature of source %s: %w", L.Sources[i].Name, err)
+		}
+		grids[i] = newGrid(L.Spec, &L.Sources[i], &l)
+	}
+	L.grids = grids
+	return nil
+}
+
+// Summary describes the current quadratures (node counts; convergence is known only to
+// BuildLayouts).
+func (L *Likelihood) Summary() LayoutStats { return L.summarise(nil) }

@@ -1,0 +1,310 @@
+package model
+
+import (
+	"bytes"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"strconv"
+	"strings"
+)
+
+// CurveSettings holds what a parameter set does not: the rotation curve's family, the node
+// radii of a nodes curve, its interpolant and the core radius. The zero value infers the
+// family from the parameter names and uses DefaultCoreRadius.
+type CurveSettings struct {
+	// Family is the rotation-curve family. Empty: inferred from the parameter names,
+	// dTheta_dR → CurveLinear, alpha → CurvePower, Theta_1 … → CurveNodes.
+	Family CurveFamily
+	// NodeRadii are the radii R_j (kpc, increasing) of a nodes curve; parameter Theta_j is
+	// the speed at NodeRadii[j−1].
+	NodeRadii []float64
+	// Interp joins the nodes of a nodes curve; the zero value is MonotoneCubic.
+	Interp Interpolation
+	// RCore is the core radius R_core (kpc); 0 means DefaultCoreRadius.
+	RCore float64
+}
+
+// Parameter names of the kinematic model, as used in parameter files, chain columns and
+// summaries.
+const (
+	ParamR0       = "R0"        // kpc
+	ParamTheta0   = "Theta0"    // km/s
+	ParamSlope    = "dTheta_dR" // km/s/kpc, linear curve
+	ParamAlpha    = "alpha"     // power curve exponent
+	ParamUsun     = "Usun"      // km/s
+	ParamVsun     = "Vsun"      // km/s
+	ParamWsun     = "Wsun"      // km/s
+	ParamUs       = "Us"        // km/s
+	ParamVs       = "Vs"        // km/s
+	ParamWs       = "Ws"        // km/s
+	paramNodeStem = "Theta_"    // Theta_1 … Theta_N, km/s, nodes curve
+)
+
+// NodeParamName returns the parameter name of the speed at the j-th node (1-based),
+// "Theta_j".
+func NodeParamName(j int) string { return paramNodeStem + strconv.Itoa(j) }
+
+// MotionFromParams builds the Motion described by a flat set of parameter values keyed by
+// name (R0, Theta0, dTheta_dR or alpha or Theta_1…Theta_N, Usun, Vsun, Wsun, Us, Vs, Ws) and
+// the curve settings. It returns the Motion and the names it used, in a fixed order.
+//
+// Every name the chosen family needs must be present; an error names the first one missing.
+// For a nodes curve Θ0 is derived (Θ(R0)), and a Theta0 value, if present, is not used.
+// Other names are allowed if they are parameters of other parts of the model
+// (IsModelParameterName: arm, width, dispersion, fraction and derived names); a name of a
+// different rotation-curve family, a node beyond NodeRadii, or any other name is an error.
+func MotionFromParams(values map[string]float64, cs CurveSettings) (*Motion, []string, error) {
+	fam, err := curveFamilyOf(values, cs)
+	if err != nil {
+		return nil, nil, err
+	}
+	var used []string
+	get := func(name string) (float64, error) {
+		v, ok := values[name]
+		if !ok {
+			return 0, fmt.Errorf("parameter %s is missing (needed by the %s rotation curve and motion model)", name, fam)
+		}
+		if !isFiniteNumber(v) {
+			return 0, fmt.Errorf("parameter %s = %v is not a finite number", name, v)
+		}
+		used = append(used, name)
+		return v, nil
+	}
+	rCore := cs.RCore
+	if rCore == 0 {
+		rCore = DefaultCoreRadius
+	}
+	r0, err := get(ParamR0)
+	if err != nil {
+		return nil, nil, err
+	}
+	var curve RotationCurve
+	switch fam {
+	case CurveLinear, CurvePower:
+		th0, err := get(ParamTheta0)
+		if err != nil {
+			return nil, nil, err
+		}
+		if fam == CurveLinear {
+			slope, err := get(ParamSlope)
+			if err != nil {
+				return nil, nil, err
+			}
+			curve, err = NewLinearCurve(r0, th0, slope, rCore)
+			if err != nil {
+				return nil, nil, err
+			}
+		} else {
+			alpha, err := get(ParamAlpha)
+			if err != nil {
+				return nil, nil, err
+			}
+			curve, err = NewPowerCurve(r0, th0, alpha, rCore)
+			if err != nil {
+				return nil, nil, err
+			}
+		}
+	case CurveNodes:
+		if len(cs.NodeRadii) == 0 {
+			return nil, nil, fmt.Errorf("nodes rotation curve: no node radii in the settings")
+		}
+		speeds := make([]float64, len(cs.NodeRadii))
+		for j := range speeds {
+			if speeds[j], err = get(NodeParamName(j + 1)); err != nil {
+				return nil, nil, err
+			}
+		}
+		curve, err = NewNodesCurve(cs.NodeRadii, speeds, cs.Interp, rCore)
+		if err != nil {
+			return nil, nil, err
+		}
+	}
+	var uvw [6]float64
+	for i, name := range []string{ParamUsun, ParamVsun, ParamWsun, ParamUs, ParamVs, ParamWs} {
+		if uvw[i], err = get(name); err != nil {
+			return nil, nil, err
+		}
+	}
+	isUsed := make(map[string]bool, len(used))
+	for _, name := range used {
+		isUsed[name] = true
+	}
+	for name := range values {
+		if isUsed[name] {
+			continue
+		}
+		if err := checkUnusedParam(name, fam, len(cs.NodeRadii)); err != nil {
+			return nil, nil, err
+		}
+	}
+	m, err := NewMotion(r0, curve, UVW{uvw[0], uvw[1], uvw[2]}, UVW{uvw[3], uvw[4], uvw[5]})
+	if err != nil {
+		return nil, nil, err
+	}
+	return m, used, nil
+}
+
+// curveFamilyOf returns the family set in cs, or the one the parameter names point to.
+func curveFamilyOf(values map[string]float64, cs CurveSettings) (CurveFamily, error) {
+	switch cs.Family {
+	case CurveLinear, CurvePower, CurveNodes:
+		return cs.Family, nil
+	case "":
+	default:
+		return "", fmt.Errorf("unknown rotation-curve family %q (want %q, %q or %q)", cs.Family, CurveLinear, CurvePower, CurveNodes)
+	}
+	var found []CurveFamily
+	if _, ok := values[ParamSlope]; ok {
+		found = append(found, CurveLinear)
+	}
+	if _, ok := values[ParamAlpha]; ok {
+		found = append(found, CurvePower)
+	}
+	if _, ok := values[NodeParamName(1)]; ok {
+		found = append(found, CurveNodes)
+	}
+	switch len(found) {
+	case 0:
+		return "", fmt.Errorf("no rotation-curve parameter: want %s (linear), %s (power) or %s… (nodes)", ParamSlope, ParamAlpha, NodeParamName(1))
+	case 1:
+		return found[0], nil
+	}
+	return "", fmt.Errorf("parameters of several rotation-curve families (%v): set the family", found)
+}
+
+// checkUnusedParam accepts a name the motion model did not use if it belongs to another part
+// of the model and not to a rotation-curve family other than fam.
+func checkUnusedParam(name string, fam CurveFamily, nNodes int) error {
+	switch {
+	case name == ParamSlope || name == ParamAlpha:
+		return fmt.Errorf("parameter %s does not belong to the %s rotation curve", name, fam)
+	case isNodeParam(name):
+		if fam != CurveNodes {
+			return fmt.Errorf("parameter %s does not belong to the %s rotation curve", name, fam)
+		}
+		return fmt.Errorf("parameter %s: the nodes curve has only %d node radii", name, nNodes)
+	case name == ParamTheta0 && fam == CurveNodes:
+		return nil // derived for a nodes curve
+	case IsModelParameterName(name):
+		return nil
+	}
+	return fmt.Errorf("unknown parameter %q", name)
+}
+
+func isNodeParam(name string) bool {
+	rest, ok := strings.CutPrefix(name, paramNodeStem)
+	if !ok || rest == "" {
+		return false
+	}
+	j, err := strconv.Atoi(rest)
+	return err == nil && j >= 1 && strconv.Itoa(j) == rest
+}
+
+// IsModelParameterName reports whether name is a parameter or derived-quantity name of the
+// model: the kinematic names (R0, Theta0, dTheta_dR, alpha, Theta_j, Usun, Vsun, Wsun, Us,
+// Vs, Ws), sigma_vir, width_slope, f_field, the derived Omega_sun, Theta0_over_R0,
+// Theta0_plus_Vsun, Oort_A, Oort_B, and for an arm NAME: NAME_Rref, NAME_pitch, NAME_pitch2,
+// NAME_kink, NAME_width, NAME_Rsun and f_NAME.
+func IsModelParameterName(name string) bool {
+	switch name {
+	case ParamR0, ParamTheta0, ParamSlope, ParamAlpha, ParamUsun, ParamVsun, ParamWsun,
+		ParamUs, ParamVs, ParamWs, "sigma_vir", "width_slope", "f_field",
+		"Omega_sun", "Theta0_over_R0", "Theta0_plus_Vsun", "Oort_A", "Oort_B":
+		return true
+	}
+	if isNodeParam(name) {
+		return true
+	}
+	if arm, ok := strings.CutPrefix(name, "f_"); ok && arm != "" {
+		return true
+	}
+	for _, suffix := range []string{"_Rref", "_pitch", "_pitch2", "_kink", "_width", "_Rsun"} {
+		if arm, ok := strings.CutSuffix(name, suffix); ok && arm != "" {
+			return true
+		}
+	}
+	return false
+}
+
+// ReadParamValues reads a JSON file holding one object of parameter values keyed by name,
+// for example {"R0": 8.2, "Theta0": 236, "dTheta_dR": -0.5, "Usun": 10.6, …}. Every value
+// must be a number; a repeated name is an error.
+func ReadParamValues(path string) (map[string]float64, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return nil, fmt.Errorf("reading parameter values: %w", err)
+	}
+	v, err := ParseParamValues(data)
+	if err != nil {
+		return nil, fmt.Errorf("reading parameter values from %s: %w", path, err)
+	}
+	return v, nil
+}
+
+// ParseParamValues parses a JSON object of parameter values keyed by name (see
+// ReadParamValues).
+func ParseParamValues(data []byte) (map[string]float64, error) {
+	dec := json.NewDecoder(bytes.NewReader(data))
+	dec.UseNumber()
+	tok, err := dec.Token()
+	if err != nil {
+		return nil, fmt.Errorf("want a JSON object: %w", err)
+	}
+	if d, ok := tok.(json.Delim); !ok || d != '{' {
+		return nil, fmt.Errorf("want a JSON object of name: value pairs, found %v", tok)
+	}
+	values := make(map[string]float64)
+	for dec.More() {
+		tok, err := dec.Token()
+		if err != nil {
+			return nil, fmt.Errorf("at byte %d: %w", dec.InputOffset(), err)
+		}
+		name, ok := tok.(string)
+		if !ok {
+			return nil, fmt.Errorf("at byte %d: want a parameter name, found %v", dec.InputOffset(), tok)
+		}
+		if _, dup := values[name]; dup {
+			return nil, fmt.Errorf("parameter %q given twice", name)
+		}
+		tok, err = dec.Token()
+		if err != nil {
+			return nil, fmt.Errorf("parameter %q: %w", name, err)
+		}
+		num, ok := tok.(json.Number)
+		if !ok {
+			return nil, fmt.Errorf("parameter %q: want a number, found %v", name, describeJSON(tok))
+		}
+		f, err := num.Float64()
+		if err != nil {
+			return nil, fmt.Errorf("parameter %q: %w", name, err)
+		}
+		values[name] = f
+	}
+	if _, err := dec.Token(); err != nil {
+		return nil, fmt.Errorf("unterminated JSON object: %w", err)
+	}
+	if _, err := dec.Token(); !errors.Is(err, io.EOF) {
+		return nil, fmt.Errorf("unexpected content after the JSON object")
+	}
+	return values, nil
+}
+
+func describeJSON(tok json.Token) string {
+	switch t := tok.(type) {
+	case string:
+		return fmt.Sprintf("the string %q", t)
+	case bool:
+		return fmt.Sprintf("%v", t)
+	case nil:
+		return "null"
+	case json.Delim:
+		if t == '{' {
+			return "an object"
+		}
+		return "an array"
+	}
+	return fmt.Sprintf("%v", tok)
+}

@@ -1,0 +1,231 @@
+package model
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/mirabilis-astro/mirabilis/arms"
+	"github.com/mirabilis-astro/mirabilis/model/config"
+)
+
+const deg = math.Pi / 180
+
+// ArmSpec is the part of a spiral arm that is a setting rather than a parameter: its name,
+// reference azimuth, azimuth range and whether it has a kink. Angles in radians.
+type ArmSpec struct {
+	Name                string
+	BetaRef             float64 // β_ref, rad
+	BetaStart, BetaEnd  float64 // the range over which the arm exists, rad
+	Kinked              bool
+	paramR, paramPitch  string
+	paramPitch2, paramK string
+	paramWidth          string
+}
+
+// Spec is the fixed part of the model: everything that is a setting rather than a sampled
+// parameter. Build it with NewSpec or SpecFromConfig.
+type Spec struct {
+	// Curve holds the rotation-curve family, its node radii and the core radius.
+	Curve CurveSettings
+	// Arms are the spiral arms in order; membership index k+1 is arm k, 0 the field.
+	Arms []ArmSpec
+	// Bar is the inner-Galaxy velocity scatter σ²(R) = σ²_vir + σ²_bar S((R_inner − R)/s_bar).
+	Bar BarScatter
+	// EdgeSoftening τ of the arms' ends (rad) and DiskScale h of the field disk (kpc).
+	EdgeSoftening, DiskScale float64
+	// DMin and DMax bound the distance integral (kpc).
+	DMin, DMax float64
+	// Errors is the error model of the kinematic residuals.
+	Errors ErrorModel
+	// Galaxy selects the mixture of field and arms as the distance prior; false is the
+	// "parallax" mode, a prior uniform in d over [DMin, DMax] with no mixture.
+	Galaxy bool
+	// Tol is the quadrature tolerance, in ln L per source.
+	Tol float64
+}
+
+// NumComponents returns the number of membership components: the field and the arms.
+func (s *Spec) NumComponents() int { return 1 + len(s.Arms) }
+
+// ComponentName returns the label of membership component m: "field" or the arm's name.
+func (s *Spec) ComponentName(m int) string {
+	if m == 0 {
+		return "field"
+	}
+	return s.Arms[m-1].Name
+}
+
+// SpecFromConfig returns the fixed part of the model a configuration describes.
+func SpecFromConfig(c *config.Config) (*Spec, error) {
+	s := &Spec{
+		Curve: CurveSettings{
+			Family:    CurveFamily(c.Rotation.Curve),
+			NodeRadii: append([]float64(nil), c.Rotation.NodeRadii...),
+			RCore:     c.Rotation.CoreRadius,
+		},
+		Bar: BarScatter{
+			Sigma:  c.Likelihood.BarDispersion,
+			Scale:  c.Likelihood.BarSoftening,
+			RInner: c.Likelihood.InnerRadius,
+		},
+		EdgeSoftening: c.Membership.ArmEndSoftening * deg,
+		DiskScale:     c.Membership.FieldScale,
+		DMin:          c.Likelihood.DistanceRange[0],
+		DMax:          c.Likelihood.DistanceRange[1],
+		Galaxy:        c.Likelihood.DistancePrior == config.DistanceGalaxy,
+		Tol:           c.Likelihood.Tolerance,
+	}
+	if c.Rotation.Interpolation == config.InterpLinear {
+		s.Curve.Interp = LinearInterp
+	}
+	em, err := NewErrorModel(string(c.Likelihood.Errors), c.Likelihood.StudentDOF)
+	if err != nil {
+		return nil, err
+	}
+	s.Errors = em
+	for _, a := range c.Arms {
+		s.Arms = append(s.Arms, NewArmSpec(a.Name, a.RefAzimuth, a.AzimuthRange[0], a.AzimuthRange[1], a.Kinked()))
+	}
+	return s, s.Validate()
+}
+
+// NewArmSpec returns the settings of an arm, with angles given in degrees.
+func NewArmSpec(name string, refDeg, startDeg, endDeg float64, kinked bool) ArmSpec {
+	return ArmSpec{
+		Name: name, BetaRef: refDeg * deg, BetaStart: startDeg * deg, BetaEnd: endDeg * deg, Kinked: kinked,
+		paramR:      name + config.SuffixRref,
+		paramPitch:  name + config.SuffixPitch,
+		paramPitch2: name + config.SuffixPitch2,
+		paramK:      name + config.SuffixKink,
+		paramWidth:  name + config.SuffixWidth,
+	}
+}
+
+// Validate checks the settings for values the likelihood cannot work with.
+func (s *Spec) Validate() error {
+	switch {
+	case !(s.DMin > 0 && s.DMax > s.DMin) || math.IsInf(s.DMax, 0):
+		return fmt.Errorf("model: distance range [%g, %g] kpc: want 0 < d_min < d_max", s.DMin, s.DMax)
+	case !(s.Tol > 0):
+		return fmt.Errorf("model: quadrature tolerance %g: want a positive number", s.Tol)
+	case !(s.DiskScale > 0):
+		return fmt.Errorf("model: field scale %g kpc: want a positive number", s.DiskScale)
+	case !(s.EdgeSoftening > 0):
+		return fmt.Errorf("model: arm-end softening %g rad: want a positive number", s.EdgeSoftening)
+	}
+	for i := range s.Arms {
+		a := &s.Arms[i]
+		if a.paramR == "" {
+			*a = NewArmSpec(a.Name, a.BetaRef/deg, a.BetaStart/deg, a.BetaEnd/deg, a.Kinked)
+		}
+		if !(a.BetaEnd > a.BetaStart) {
+			return fmt.Errorf("model: arm %s: empty azimuth range", a.Name)
+		}
+	}
+	return nil
+}
+
+// Params is one parameter set in the form the likelihood uses.
+type Params struct {
+	// Motion is the kinematic model: R0, the rotation curve, the Sun's and the sources' motion.
+	Motion *Motion
+	// SigmaVir is the sources' one-dimensional velocity dispersion σ_vir (km/s).
+	SigmaVir float64
+	// Layout is the spiral-arm geometry; Density its prepared log-densities.
+	Layout  arms.Layout
+	Density *arms.Density
+	// LogFrac holds ln f_m of the membership fractions, field first.
+	LogFrac []float64
+	frac    []float64
+}
+
+// NewParams builds a parameter set from values by name (the names of the configuration and
+// the chain: R0, Theta0, dTheta_dR, Usun … NAME_pitch …, f_field, f_NAME). In the parallax
+// mode fractions may be absent (then equal); arm parameters are needed whenever the spec has
+// arms.
+func (s *Spec) NewParams(values map[string]float64) (*Params, error) {
+	m, _, err := MotionFromParams(values, s.Curve)
+	if err != nil {
+		return nil, err
+	}
+	get := func(name string, def float64, need bool) (float64, error) {
+		v, ok := values[name]
+		if !ok {
+			if need {
+				return 0, fmt.Errorf("parameter %s is missing", name)
+			}
+			return def, nil
+		}
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return 0, fmt.Errorf("parameter %s = %v is not a finite number", name, v)
+		}
+		return v, nil
+	}
+	p := &Params{Motion: m}
+	if p.SigmaVir, err = get(config.NameSigmaVir, 0, true); err != nil {
+		return nil, err
+	}
+	if p.SigmaVir < 0 {
+		return nil, fmt.Errorf("parameter %s = %g must not be negative", config.NameSigmaVir, p.SigmaVir)
+	}
+	slope, err := get(config.NameWidthSlope, 0, false)
+	if err != nil {
+		return nil, err
+	}
+	p.Layout = arms.Layout{R0: m.R0(), WidthSlope: slope, EdgeSoftening: s.EdgeSoftening, DiskScale: s.DiskScale}
+	for _, a := range s.Arms {
+		arm := arms.Arm{Name: a.Name, BetaRef: a.BetaRef, BetaStart: a.BetaStart, BetaEnd: a.BetaEnd, Kinked: a.Kinked}
+		var pitch, width, pitch2, kink float64
+		if arm.RRef, err = get(a.paramR, 0, true); err != nil {
+			return nil, err
+		}
+		if pitch, err = get(a.paramPitch, 0, true); err != nil {
+			return nil, err
+		}
+		if width, err = get(a.paramWidth, 0, true); err != nil {
+			return nil, err
+		}
+		if a.Kinked {
+			if pitch2, err = get(a.paramPitch2, 0, true); err != nil {
+				return nil, err
+			}
+			if kink, err = get(a.paramK, 0, true); err != nil {
+				return nil, err
+			}
+		}
+		arm.Pitch, arm.Pitch2, arm.BetaKink, arm.Width = pitch*deg, pitch2*deg, kink*deg, width
+		p.Layout.Arms = append(p.Layout.Arms, arm)
+	}
+	if p.Density, err = arms.NewDensity(p.Layout); err != nil {
+		return nil, err
+	}
+	n := s.NumComponents()
+	p.LogFrac = make([]float64, n)
+	p.frac = make([]float64, n)
+	sum := 0.0
+	for k := range n {
+		name := fractionName(s, k)
+		f, err := get(name, 1/float64(n), s.Galaxy)
+		if err != nil {
+			return nil, err
+		}
+		if !(f >= 0) {
+			return nil, fmt.Errorf("fraction %s = %g must not be negative", name, f)
+		}
+		sum += f
+		p.LogFrac[k] = math.Log(f)
+		p.frac[k] = f
+	}
+	if math.Abs(sum-1) > 1e-6 {
+		return nil, fmt.Errorf("membership fractions sum to %.9g, want 1", sum)
+	}
+	return p, nil
+}
+
+// fractionName is the parameter name of membership component k.
+func fractionName(s *Spec, k int) string {
+	if k == 0 {
+		return config.FieldFraction
+	}
+	return "f_" + s.Arms[k-1].Name
+}
