@@ -306,13 +306,13 @@ func (d *Density) Densities(dst []float64, R, beta float64) {
 	if len(dst) != len(d.arms)+1 {
 		panic("arms: Densities: len(dst) != NumArms()+1")
 	}
-	_, r := logRadius(R)
+	lnR, r := logRadius(R)
 	dst[0] = math.Exp(d.lnField - R*d.invScale)
 	invR := 1 / r
 	arms := d.arms
 	dst = dst[1 : len(arms)+1]
 	for k := range arms {
-		dst[k] = d.arm(&arms[k], r, beta, invR)
+		dst[k] = d.arm(&arms[k], r, lnR, beta, invR)
 	}
 }
 
@@ -320,8 +320,11 @@ func (d *Density) Densities(dst []float64, R, beta float64) {
 // smallest positive float64.
 const maxHalfSquare = 745
 
+// maxOffsetLinear is √(2·maxHalfSquare): the |δ|/w beyond which the Gaussian factor is zero.
+var maxOffsetLinear = math.Sqrt(2 * maxHalfSquare)
+
 // arm is ρ_k in linear form: Σ_n E(β_n) cos ψ(β_n) exp(−δ_n²/(2w²)) / (√(2π) w Z R).
-func (d *Density) arm(c *armConst, R, beta, invR float64) float64 {
+func (d *Density) arm(c *armConst, R, lnR, beta, invR float64) float64 {
 	w := c.w0
 	if d.slope != 0 {
 		w = widthAt(c.w0, d.slope, R-d.r0)
@@ -332,6 +335,11 @@ func (d *Density) arm(c *armConst, R, beta, invR float64) float64 {
 	for n := first; n <= last; n++ {
 		bn := beta + twoPi*float64(n)
 		lnRk, cs, _ := c.lnR(bn)
+		// Far from the winding the Gaussian underflows; tell without an exponential:
+		// |R − R_k| ≥ R (1 − e^−Δ) ≥ R Δ/(1 + Δ) for Δ = |ln R − ln R_k|.
+		if dl := math.Abs(lnR - lnRk); R*dl/(1+dl)*cs*invW > maxOffsetLinear {
+			continue
+		}
 		x := (R - math.Exp(lnRk)) * cs * invW
 		h := 0.5 * x * x
 		if !(h < maxHalfSquare) {

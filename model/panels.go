@@ -113,8 +113,27 @@ func (L *Likelihood) features(s *Source, pilots []*Params, fs []func(float64) fl
 	if s.Plx > 0 {
 		add(-math.Log(s.Plx))
 	}
-	var cross []arms.Crossing
+	// Where the sightline meets the rotation curve's core, the bar's radius, and its
+	// closest approach to the centre: the kinematics change slope or turn fast there.
 	cb := s.Sight.CosB
+	for _, p := range pilots {
+		R0 := p.Motion.R0()
+		along := R0 * s.Sight.CosL
+		if along > 0 {
+			add(math.Log(along / cb))
+		}
+		perp2 := R0 * R0 * s.Sight.SinL * s.Sight.SinL
+		for _, Rx := range []float64{L.Spec.Curve.rCore(), L.Spec.Bar.RInner} {
+			if h2 := Rx*Rx - perp2; h2 > 0 {
+				for _, dc := range []float64{along - math.Sqrt(h2), along + math.Sqrt(h2)} {
+					if dc > 0 {
+						add(math.Log(dc / cb))
+					}
+				}
+			}
+		}
+	}
+	var cross []arms.Crossing
 	for _, p := range pilots {
 		if L.Spec.Galaxy {
 			for k, a := range p.Layout.Arms {

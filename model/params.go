@@ -308,3 +308,11 @@ func describeJSON(tok json.Token) string {
 	}
 	return fmt.Sprintf("%v", tok)
 }
+
+// rCore returns the core radius with its default applied.
+func (cs CurveSettings) rCore() float64 {
+	if cs.RCore > 0 {
+		return cs.RCore
+	}
+	return DefaultCoreRadius
+}

@@ -41,7 +41,15 @@ Everything goes to the run directory (the configuration's output, or --out):
                   coordinate (free parameters; stick_k for the membership fractions)
   checkpoint.bin  the sampler's state and the quadratures, for --resume
   log.txt         what the run reported
-  summary.txt, summary.json, sources.csv, figures/   when the run ends
+  when the run ends:
+  summary.txt     parameters and derived quantities (median, 68% and 95% intervals,
+                  MAP, autocorrelation time, effective sample size), diagnostics
+  summary.json    the same for programs, with the per-source results
+  samples.csv     posterior samples after burn-in of every parameter, membership
+                  fraction and derived quantity (at most 20000 rows)
+  sources.csv     each source's membership probabilities, distance (median and
+                  68% interval), Galactocentric position and peculiar motion
+  figures/        face-on map, rotation curve, triangle plots, traces, memberships
 
 A run directory holding a finished run is not overwritten without --force. A run
 that was stopped (Ctrl-C, --time, a killed job) continues with --resume exactly as

@@ -6,6 +6,7 @@ import (
 	"errors"
 	"fmt"
 	"io/fs"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -203,4 +204,79 @@ func withArm(row, arm string) string {
 	f[0] = "extra-source"
 	f[len(f)-1] = arm
 	return strings.Join(f, ",")
+}
+
+// TestRecovery simulates a catalog from known parameters, fits it, and requires every
+// global parameter's truth inside its 95% credible interval and the true arm to be the
+// most probable for at least 90% of the arm sources that lie farther than one width from
+// every other arm. The seed is fixed; MIRABILIS_LONG=1 runs a larger catalog and a longer
+// chain.
+func TestRecovery(t *testing.T) {
+	if testing.Short() {
+		t.Skip("runs a fit")
+	}
+	n, steps := 120, 700
+	if os.Getenv("MIRABILIS_LONG") != "" {
+		n, steps = 300, 3000
+	}
+	path, m := setUp(t, n, fmt.Sprintf("\n[sampler]\nwalkers = 40\nsteps = %d\nburn = %d\ncheckpoint_every = 100\nseed = 3\n", steps, steps/2))
+	out, err := Fit(context.Background(), load(t, path), Options{Out: filepath.Join(filepath.Dir(path), "run")})
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := out.Summary
+	t.Logf("acceptance %.3f, longest τ %.1f steps over %d steps", s.Acceptance, s.MaxTau, s.Steps)
+	globals := map[string]bool{"R0": true, "Theta0": true, "dTheta_dR": true, "Usun": true, "Vsun": true, "Wsun": true,
+		"Us": true, "Vs": true, "Ws": true, "sigma_vir": true}
+	for _, q := range s.Params {
+		truth, ok := m.Truth[q.Name]
+		if !ok {
+			continue
+		}
+		in := truth >= q.Lo95 && truth <= q.Hi95
+		t.Logf("%-16s truth %9.4g  median %9.4g  95%% [%9.4g, %9.4g]  inside %v", q.Name, truth, q.Median, q.Lo95, q.Hi95, in)
+		if globals[q.Name] && !in {
+			t.Errorf("%s: truth %g outside the 95%% interval [%g, %g]", q.Name, truth, q.Lo95, q.Hi95)
+		}
+	}
+	// Membership of the arm sources well clear of the other arms.
+	_, truth, err := m.Draw(nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p, err := out.Job.Spec.NewParams(m.Truth)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var clear, right int
+	for i, tr := range truth {
+		if tr.Component == "field" {
+			continue
+		}
+		far := true
+		for _, a := range p.Layout.Arms {
+			if a.Name == tr.Component {
+				continue
+			}
+			beta := tr.Beta * math.Pi / 180
+			lo, hi := a.Windings(beta, p.Layout.EdgeSoftening)
+			for k := lo; k <= hi; k++ {
+				bn := beta + 2*math.Pi*float64(k)
+				if math.Abs(a.Offset(tr.R, bn)) < a.WidthAt(tr.R, p.Layout.R0, p.Layout.WidthSlope) {
+					far = false
+				}
+			}
+		}
+		if !far {
+			continue
+		}
+		clear++
+		if s.Sources[i].Best == tr.Component {
+			right++
+		}
+	}
+	t.Logf("arm sources clear of other arms: %d, assigned to their true arm: %d", clear, right)
+	if clear == 0 || float64(right) < 0.9*float64(clear) {
+		t.Errorf("true arm most probable for %d of %d arm sources clear of other arms; want at least 90%%", right, clear)
+	}
 }

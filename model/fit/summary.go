@@ -20,6 +20,7 @@ const (
 	SummaryText = "summary.txt"  // the posterior summary, for reading
 	SummaryJSON = "summary.json" // the same, for programs
 	SourcesCSV  = "sources.csv"  // per-source membership, distance and peculiar motion
+	SamplesCSV  = "samples.csv"  // posterior samples of every parameter and derived quantity
 )
 
 // Quantity summarises the posterior of one parameter or derived quantity.
@@ -92,6 +93,36 @@ type Summary struct {
 	// Draws are up to sourceDraws posterior parameter sets (all parameters by name), for
 	// figures with credible bands.
 	Draws []map[string]float64 `json:"-"`
+
+	samples []byte // the samples table, CSV
+}
+
+// maxSampleRows bounds the rows of the samples table; longer chains are thinned evenly.
+const maxSampleRows = 20000
+
+// samplesTable renders every parameter and derived quantity at the kept samples after
+// burn-in, thinned to at most maxSampleRows rows, as CSV with columns step, walker and one
+// per quantity.
+func samplesTable(names []string, steps []int, series [][][]float64) []byte {
+	var b bytes.Buffer
+	b.WriteString("step,walker," + strings.Join(names, ",") + "\n")
+	if len(series) == 0 {
+		return b.Bytes()
+	}
+	W, n := len(series[0]), len(steps)
+	stride := max(1, (n*W+maxSampleRows-1)/maxSampleRows)
+	for r := 0; r < n*W; r += stride {
+		t, k := r/W, r%W
+		b.WriteString(strconv.Itoa(steps[t]) + "," + strconv.Itoa(k))
+		for q := range series {
+			b.WriteByte(',')
+			if v := series[q][k][t]; !math.IsNaN(v) {
+				b.WriteString(strconv.FormatFloat(v, 'g', 10, 64))
+			}
+		}
+		b.WriteByte('\n')
+	}
+	return b.Bytes()
 }
 
 // sourceDraws is the number of posterior draws the per-source results average over.
@@ -145,6 +176,7 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 		}
 	}
 	s.Samples = n * W
+	s.samples = samplesTable(names, chain.Step[burn:], series)
 	var mapVals, mapDer map[string]float64
 	if pilot != nil {
 		mapVals, mapDer = job.values(pilot.MAP)
@@ -195,16 +227,17 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 			s.Derived = append(s.Derived, qt)
 		}
 	}
-	// Posterior draws for the per-source results and the figures.
-	all := chain.Samples(burn)
-	stride := max(1, len(all)/sourceDraws)
+	// Posterior draws for the per-source results and the figures: spread evenly over the
+	// kept rows after burn-in, cycling through the walkers.
+	nd := min(sourceDraws, n*W)
 	var draws []*model.Params
-	for i := 0; i < len(all) && len(draws) < sourceDraws; i += stride {
-		p, err := job.Post.Params(all[i])
+	for i := range nd {
+		x := chain.X[burn+i*n/nd][i%W]
+		p, err := job.Post.Params(x)
 		if err != nil {
 			continue
 		}
-		vals, _ := job.values(all[i])
+		vals, _ := job.values(x)
 		draws = append(draws, p)
 		s.Draws = append(s.Draws, vals)
 	}
@@ -498,6 +531,11 @@ func (s *Summary) Write(dir string) error {
 	}
 	if err := WriteFileAtomic(filepath.Join(dir, SourcesCSV), s.SourcesTable()); err != nil {
 		return err
+	}
+	if s.samples != nil {
+		if err := WriteFileAtomic(filepath.Join(dir, SamplesCSV), s.samples); err != nil {
+			return err
+		}
 	}
 	return writeJSON(filepath.Join(dir, SummaryJSON), jsonSafe(s))
 }

@@ -1,0 +1,672 @@
+package main
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"slices"
+	"strings"
+
+	"gonum.org/v1/plot/font"
+	"gonum.org/v1/plot/vg"
+
+	"github.com/mirabilis-astro/mirabilis/arms"
+	"github.com/mirabilis-astro/mirabilis/mcmc"
+	"github.com/mirabilis-astro/mirabilis/model"
+	"github.com/mirabilis-astro/mirabilis/model/fit"
+	"github.com/mirabilis-astro/mirabilis/model/prior"
+	"github.com/mirabilis-astro/mirabilis/plots"
+)
+
+// figuresDir is the folder of a run directory that holds the run's figures.
+const figuresDir = "figures"
+
+// The figures of a finished run, in the order they are drawn.
+var figureMakers = []struct {
+	file string
+	make func(in *figureInput) (plots.Figure, vg.Length, vg.Length, error)
+}{
+	{"map.png", mapFigure},
+	{"rotation.png", rotationFigure},
+	{"triangle.png", globalsTriangle},
+	{"arms.png", armsTriangle},
+	{"trace.png", traceFigure},
+	{"membership.png", membershipFigure},
+}
+
+// writeFigures draws the figures of a finished run into its figures folder and returns
+// their paths. A figure that fails does not stop the others; the errors are returned
+// together. A figure with nothing to show (no sampled arm parameter, say) is left out.
+func writeFigures(out *fit.Outcome) ([]string, error) {
+	if out == nil || out.Job == nil || out.Summary == nil {
+		return nil, errors.New("figures: the run has no posterior summary to draw")
+	}
+	in, err := newFigureInput(out)
+	if err != nil {
+		return nil, fmt.Errorf("figures: %w", err)
+	}
+	dir := filepath.Join(out.Dir, figuresDir)
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return nil, fmt.Errorf("figures: %w", err)
+	}
+	var paths []string
+	var errs []error
+	for _, f := range figureMakers {
+		fig, w, h, err := f.make(in)
+		if err != nil {
+			errs = append(errs, fmt.Errorf("%s: %w", f.file, err))
+			continue
+		}
+		if fig == nil {
+			continue
+		}
+		path := filepath.Join(dir, f.file)
+		if err := plots.Save(fig, path, w, h); err != nil {
+			errs = append(errs, err)
+			continue
+		}
+		paths = append(paths, path)
+	}
+	return paths, errors.Join(errs...)
+}
+
+// figureInput is what several figures share: the run, the model at the posterior medians,
+// the arms' names in figure order and each source's tie to an arm.
+type figureInput struct {
+	out    *fit.Outcome
+	sum    *fit.Summary
+	job    *fit.Job
+	median *model.Params
+	arms   []plots.Arm
+	tied   []int // per source: 0 free, k ≥ 1 tied to arm k
+}
+
+func newFigureInput(out *fit.Outcome) (*figureInput, error) {
+	in := &figureInput{out: out, sum: out.Summary, job: out.Job}
+	if in.job.Spec == nil || in.job.Like == nil {
+		return nil, errors.New("the run's model is missing")
+	}
+	median, err := in.job.Spec.NewParams(in.sum.MedianValues)
+	if err != nil {
+		return nil, fmt.Errorf("the posterior median model: %w", err)
+	}
+	in.median = median
+	for _, a := range in.job.Spec.Arms {
+		in.arms = append(in.arms, plots.Arm{Name: a.Name})
+	}
+	if len(in.sum.Sources) != len(in.job.Like.Sources) {
+		return nil, fmt.Errorf("the summary has %d sources, the catalog %d", len(in.sum.Sources), len(in.job.Like.Sources))
+	}
+	in.tied = make([]int, len(in.sum.Sources))
+	for i := range in.tied {
+		in.tied[i] = in.job.Like.Sources[i].Label
+	}
+	return in, nil
+}
+
+// membership returns source i's membership probabilities in the figures' convention
+// (field first, then the arms), nil when the summary has none of the right length.
+func (in *figureInput) membership(i int) []float64 {
+	p := in.sum.Sources[i].Membership
+	if len(p) != len(in.arms)+1 {
+		return nil
+	}
+	return p
+}
+
+// ---- face-on map ----
+
+// mapFigure draws the Galactic plane at the posterior median parameters: each arm's band
+// (centre line ± width), every source at its median distance with its 16–84% distance
+// range along the line of sight, coloured by membership, and the peculiar motions of the
+// sources whose kinematics are all measured.
+func mapFigure(in *figureInput) (plots.Figure, vg.Length, vg.Length, error) {
+	R0 := in.median.Motion.R0()
+	lay := in.median.Layout
+	var tracks []plots.ArmTrack
+	for k, a := range lay.Arms {
+		o, err := a.Outline(R0, lay.WidthSlope, 0)
+		if err != nil {
+			return nil, 0, 0, err
+		}
+		tracks = append(tracks, plots.ArmTrack{Arm: in.arms[k], Centre: polars(o.Centre), Inner: polars(o.Inner), Outer: polars(o.Outer)})
+	}
+	var srcs []plots.MapSource
+	var speeds []float64
+	rMax := R0
+	for i, r := range in.sum.Sources {
+		sight := &in.job.Like.Sources[i].Sight
+		at := plots.Polar{R: r.R, Beta: r.Beta * math.Pi / 180}
+		if !allFinite(at.R, at.Beta) {
+			continue
+		}
+		s := plots.MapSource{Name: r.Name, At: at, Near: at, Far: at, Prob: in.membership(i), TiedArm: in.tied[i]}
+		if allFinite(r.DistanceLo, r.DistanceHi) && r.DistanceLo > 0 {
+			s.Near = inPlane(sight, R0, r.DistanceLo)
+			s.Far = inPlane(sight, R0, r.DistanceHi)
+		}
+		if r.PeculiarMeasured && allFinite(r.U, r.V) {
+			s.Motion = &plots.MapVelocity{U: r.U, V: r.V, W: r.W}
+			speeds = append(speeds, math.Hypot(r.U, r.V))
+		}
+		rMax = max(rMax, s.Far.R, s.At.R)
+		srcs = append(srcs, s)
+	}
+	for _, t := range tracks {
+		for _, p := range t.Outer {
+			rMax = max(rMax, p.R)
+		}
+	}
+	d := plots.MapData{
+		Title:       "Face-on view from the north Galactic pole at the posterior median (rotation clockwise)",
+		R0:          R0,
+		Arms:        tracks,
+		Sources:     srcs,
+		MotionScale: motionScale(speeds, rMax),
+	}
+	fig, err := plots.FaceOnMap(d)
+	if err != nil {
+		return nil, 0, 0, err
+	}
+	return fig, 9 * vg.Inch, 9 * vg.Inch, nil
+}
+
+func polars(pts []arms.Point) []plots.Polar {
+	out := make([]plots.Polar, len(pts))
+	for i, p := range pts {
+		out[i] = plots.Polar{R: p.R, Beta: p.Beta}
+	}
+	return out
+}
+
+func inPlane(s *model.Sightline, R0, d float64) plots.Polar {
+	R, c, sn := s.InPlane(R0, d)
+	return plots.Polar{R: R, Beta: math.Atan2(sn, c)}
+}
+
+// motionScale returns the length of the map's motion arrows in kpc per km/s: the 80th
+// percentile of the sources' in-plane peculiar speeds draws 5% of the map's radius rMax
+// (kpc); 0 (no arrows) when there are no speeds. The map's reference arrow gives the scale.
+func motionScale(speeds []float64, rMax float64) float64 {
+	if len(speeds) == 0 || !(rMax > 0) {
+		return 0
+	}
+	v := mcmc.Quantile(0.8, speeds, nil)
+	if !(v > 0) || math.IsInf(v, 0) {
+		return 0
+	}
+	return 0.05 * rMax / v
+}
+
+// ---- rotation curve ----
+
+// curveDraws is the number of posterior draws the rotation-curve figure is computed from.
+const curveDraws = 400
+
+// posteriorMotions returns the kinematic models of up to n posterior draws: from the chain
+// after burn-in when there is one, spread evenly over its rows and taking the walkers in
+// turn, otherwise from the summary's draws. Draws that make no model are left out.
+func (in *figureInput) posteriorMotions(n int) []*model.Motion {
+	var out []*model.Motion
+	add := func(values map[string]float64) {
+		if p, err := in.job.Spec.NewParams(values); err == nil {
+			out = append(out, p.Motion)
+		}
+	}
+	c := in.chain()
+	if c == nil || c.Walkers() == 0 || in.job.Post == nil {
+		for _, d := range in.sum.Draws {
+			add(d)
+		}
+		return out
+	}
+	burn := min(max(in.sum.Burn, 0), c.Len()-1)
+	rows, w := c.Len()-burn, c.Walkers()
+	n = min(n, rows*w)
+	for i := range n {
+		add(in.job.Post.Values(c.X[burn+i*rows/n][i%w]))
+	}
+	return out
+}
+
+// curveBands holds the posterior quantiles of Θ(R) on a grid of radii.
+type curveBands struct {
+	R                              []float64
+	Median, Lo68, Hi68, Lo95, Hi95 []float64
+}
+
+// rotationBands evaluates the rotation curve of every draw's motion on n+1 radii from 0 to
+// rMax (kpc) and returns the median and the central 68% and 95% intervals at each radius;
+// with no draw it returns an error.
+func rotationBands(motions []*model.Motion, rMax float64, n int) (curveBands, error) {
+	if len(motions) == 0 {
+		return curveBands{}, errors.New("no posterior draw makes a rotation curve")
+	}
+	b := curveBands{R: make([]float64, n+1)}
+	cols := []*[]float64{&b.Median, &b.Lo68, &b.Hi68, &b.Lo95, &b.Hi95}
+	for _, c := range cols {
+		*c = make([]float64, n+1)
+	}
+	probs := []float64{0.5, 0.16, 0.84, 0.025, 0.975}
+	th := make([]float64, len(motions))
+	for j := range b.R {
+		R := rMax * float64(j) / float64(n)
+		b.R[j] = R
+		for k, m := range motions {
+			th[k] = m.Curve().Theta(R)
+		}
+		q := mcmc.Quantiles(probs, th, nil)
+		for k, c := range cols {
+			(*c)[j] = q[k]
+		}
+	}
+	return b, nil
+}
+
+// azimuthalSpeed returns the speed along Galactic rotation (km/s) of source s at distance d
+// (kpc) under motion m, from its proper motion and line-of-sight velocity: its peculiar V
+// plus Θ(R). The source must have all three kinematic terms.
+func azimuthalSpeed(m *model.Motion, s *model.Source, d float64) float64 {
+	mul, mub := s.PM[0], s.PM[1]
+	if !s.PMGalactic {
+		mul, mub = s.Sight.PMToGalactic(mul, mub)
+	}
+	vh := s.V
+	if s.VLSR {
+		vh = s.Sight.LSRToHelio(vh)
+	}
+	R, _, _ := s.Sight.InPlane(m.R0(), d)
+	return m.PeculiarMotion(&s.Sight, d, mul, mub, vh).V + m.Curve().Theta(R)
+}
+
+// radiusRange returns the least and greatest Galactocentric radius (kpc) along sightline s
+// between distances d0 and d1 (kpc): the radius along a line of sight has at most one
+// minimum (the tangent point), so the ends and a fine sampling between them bound it.
+func radiusRange(s *model.Sightline, R0, d0, d1 float64) (lo, hi float64) {
+	lo, hi = math.Inf(1), math.Inf(-1)
+	const n = 32
+	for j := 0; j <= n; j++ {
+		R, _, _ := s.InPlane(R0, d0+(d1-d0)*float64(j)/n)
+		lo, hi = min(lo, R), max(hi, R)
+	}
+	return lo, hi
+}
+
+// sourceSpeed returns the point of source i on the rotation curve: its radius and its
+// speed along rotation (Θ(R) + V, the circular speed it moves with) at its median distance
+// under the median model. The radius interval spans its 16–84% distance range; the speed
+// interval adds in quadrature the change of that speed across the distance range and its
+// spread over the posterior draws' motions (the Sun's motion and R0 enter it).
+func (in *figureInput) sourceSpeed(i int, motions []*model.Motion) (plots.CurveSource, bool) {
+	r := in.sum.Sources[i]
+	src := &in.job.Like.Sources[i]
+	if !r.PeculiarMeasured || !allFinite(r.R, r.Distance) || !(r.Distance > 0) {
+		return plots.CurveSource{}, false
+	}
+	m := in.median.Motion
+	c := plots.CurveSource{Name: r.Name, R: r.R, RLo: r.R, RHi: r.R, Prob: in.membership(i), TiedArm: in.tied[i]}
+	c.Theta = azimuthalSpeed(m, src, r.Distance)
+	if !allFinite(c.Theta) {
+		return plots.CurveSource{}, false
+	}
+	down, up := 0.0, 0.0
+	if allFinite(r.DistanceLo, r.DistanceHi) && r.DistanceLo > 0 && r.DistanceHi >= r.DistanceLo {
+		c.RLo, c.RHi = radiusRange(&src.Sight, m.R0(), r.DistanceLo, r.DistanceHi)
+		c.RLo, c.RHi = min(c.RLo, r.R), max(c.RHi, r.R)
+		for _, d := range []float64{r.DistanceLo, r.DistanceHi} {
+			if v := azimuthalSpeed(m, src, d); allFinite(v) {
+				down, up = max(down, c.Theta-v), max(up, v-c.Theta)
+			}
+		}
+	}
+	var speeds []float64
+	for _, mj := range motions {
+		if v := azimuthalSpeed(mj, src, r.Distance); allFinite(v) {
+			speeds = append(speeds, v)
+		}
+	}
+	sd := 0.0
+	if len(speeds) > 1 {
+		q := mcmc.Quantiles([]float64{0.16, 0.84}, speeds, nil)
+		sd = (q[1] - q[0]) / 2
+	}
+	c.ThetaLo = c.Theta - math.Hypot(down, sd)
+	c.ThetaHi = c.Theta + math.Hypot(up, sd)
+	return c, true
+}
+
+// rotationFigure draws the rotation curve: the posterior median and its 68% and 95% bands,
+// (R0, Θ0) with their 68% half-widths, and every source with measured proper motion and
+// velocity at the circular speed it moves with (see sourceSpeed), coloured by membership.
+func rotationFigure(in *figureInput) (plots.Figure, vg.Length, vg.Length, error) {
+	m := in.median.Motion
+	motions := in.posteriorMotions(curveDraws)
+	var srcs []plots.CurveSource
+	rMax := 16.0
+	for i := range in.sum.Sources {
+		if c, ok := in.sourceSpeed(i, motions); ok {
+			rMax = max(rMax, c.RHi*1.03)
+			srcs = append(srcs, c)
+		}
+	}
+	rMax = math.Ceil(min(rMax, 40))
+	b, err := rotationBands(motions, rMax, int(rMax*20))
+	if err != nil {
+		return nil, 0, 0, err
+	}
+	d := plots.CurveData{
+		Title:   "Rotation curve: posterior median with 68% and 95% bands",
+		R:       b.R,
+		Median:  b.Median,
+		Lo68:    b.Lo68,
+		Hi68:    b.Hi68,
+		Lo95:    b.Lo95,
+		Hi95:    b.Hi95,
+		R0:      m.R0(),
+		Theta0:  m.Theta0(),
+		RCore:   in.job.Spec.Curve.RCore,
+		RInner:  in.job.Spec.Bar.RInner,
+		Arms:    in.arms,
+		Sources: srcs,
+	}
+	if d.RCore == 0 {
+		d.RCore = model.DefaultCoreRadius
+	}
+	if q, ok := in.quantity(model.ParamR0); ok {
+		d.R0, d.R0Err = q.Median, (q.Hi68-q.Lo68)/2
+	}
+	if q, ok := in.quantity(model.ParamTheta0); ok {
+		d.Theta0, d.Theta0Err = q.Median, (q.Hi68-q.Lo68)/2
+	}
+	fig, err := plots.RotationCurvePlot(d)
+	if err != nil {
+		return nil, 0, 0, err
+	}
+	return fig, 9 * vg.Inch, 6 * vg.Inch, nil
+}
+
+// quantity returns the summary of a sampled parameter or a derived quantity by name.
+func (in *figureInput) quantity(name string) (fit.Quantity, bool) {
+	for _, list := range [][]fit.Quantity{in.sum.Params, in.sum.Derived} {
+		for _, q := range list {
+			if q.Name == name && allFinite(q.Median, q.Lo68, q.Hi68) {
+				return q, true
+			}
+		}
+	}
+	return fit.Quantity{}, false
+}
+
+// ---- triangle plots and traces ----
+
+// maxArmTriangle is the most arm parameters the arm triangle shows in full; beyond it the
+// triangle keeps only each arm's reference radius and pitch angle.
+const maxArmTriangle = 16
+
+// chainColumns sorts the sampled coordinates of a run: the global parameters (kinematics,
+// dispersion, width slope), the arm parameters, and the fractions' stick-breaking reals.
+func chainColumns(names []string, armNames []string) (globals, armParams, sticks []int) {
+	for j, n := range names {
+		switch {
+		case strings.HasPrefix(n, "stick_"):
+			sticks = append(sticks, j)
+		case armOf(n, armNames) != "":
+			armParams = append(armParams, j)
+		default:
+			globals = append(globals, j)
+		}
+	}
+	return globals, armParams, sticks
+}
+
+// armSuffixes are the endings of arm parameter names and the units of each.
+var armSuffixes = []struct{ suffix, unit string }{
+	{"_Rref", "kpc"}, {"_pitch2", "deg"}, {"_pitch", "deg"}, {"_kink", "deg"}, {"_width", "kpc"},
+}
+
+// armOf returns the arm a parameter name belongs to, "" for none.
+func armOf(name string, armNames []string) string {
+	for _, s := range armSuffixes {
+		if a, ok := strings.CutSuffix(name, s.suffix); ok && slices.Contains(armNames, a) {
+			return a
+		}
+	}
+	return ""
+}
+
+// paramLabel returns a parameter's name with its unit, for axis labels.
+func paramLabel(name string) string {
+	unit := ""
+	switch {
+	case name == model.ParamR0:
+		unit = "kpc"
+	case name == model.ParamSlope:
+		unit = "km/s/kpc"
+	case name == model.ParamTheta0, name == "sigma_vir", strings.HasPrefix(name, "Theta_"),
+		slices.Contains([]string{model.ParamUsun, model.ParamVsun, model.ParamWsun, model.ParamUs, model.ParamVs, model.ParamWs}, name):
+		unit = "km/s"
+	default:
+		for _, s := range armSuffixes {
+			if strings.HasSuffix(name, s.suffix) {
+				unit = s.unit
+				break
+			}
+		}
+	}
+	if unit == "" {
+		return name
+	}
+	return name + " (" + unit + ")"
+}
+
+// samplesAfterBurn returns the chain's draws after the summary's burn-in, keeping the
+// columns cols.
+func samplesAfterBurn(c *mcmc.Chain, burn int, cols []int) [][]float64 {
+	var out [][]float64
+	for t := max(burn, 0); t < c.Len(); t++ {
+		for _, x := range c.X[t] {
+			row := make([]float64, len(cols))
+			for k, j := range cols {
+				row[k] = x[j]
+			}
+			out = append(out, row)
+		}
+	}
+	return out
+}
+
+// triangleSide is the side of a triangle plot with the given axis names: each tile is at
+// least 1.2 in wide and wide enough for its name at 11 pt (the size the triangle plot
+// writes names in on tiles of that size), plus room for the tick labels and the title.
+func triangleSide(names []string) vg.Length {
+	face := font.DefaultCache.Lookup(font.Font{Typeface: "Liberation", Variant: "Sans"}, 11)
+	tile := 1.2 * vg.Inch
+	for _, n := range names {
+		tile = max(tile, face.Width(n)+12)
+	}
+	return min(32*vg.Inch, max(5*vg.Inch, vg.Length(len(names))*tile+vg.Inch))
+}
+
+func (in *figureInput) chain() *mcmc.Chain {
+	if in.out.Result == nil || in.out.Result.Chain == nil || in.out.Result.Chain.Len() == 0 {
+		return nil
+	}
+	return in.out.Result.Chain
+}
+
+// triangle draws the triangle plot of chain columns cols after burn-in, naming each axis
+// with label.
+func (in *figureInput) triangle(title string, cols []int, label func(string) string) (plots.Figure, vg.Length, vg.Length, error) {
+	c := in.chain()
+	if c == nil || len(cols) == 0 {
+		return nil, 0, 0, nil
+	}
+	names := make([]string, len(cols))
+	for k, j := range cols {
+		names[k] = label(c.Names[j])
+	}
+	fig, err := plots.NewCornerPlot(plots.CornerData{Title: title, Names: names, Samples: samplesAfterBurn(c, in.sum.Burn, cols)})
+	if err != nil {
+		return nil, 0, 0, err
+	}
+	side := triangleSide(names)
+	return fig, side, side, nil
+}
+
+// globalsTriangle draws the triangle plot of the sampled global parameters.
+func globalsTriangle(in *figureInput) (plots.Figure, vg.Length, vg.Length, error) {
+	c := in.chain()
+	if c == nil {
+		return nil, 0, 0, nil
+	}
+	globals, _, _ := chainColumns(c.Names, armNames(in.arms))
+	return in.triangle("Global parameters after burn-in", globals, paramLabel)
+}
+
+// armsTriangle draws the triangle plot of the sampled arm parameters, or of their reference
+// radii and pitch angles alone when there are more than maxArmTriangle.
+func armsTriangle(in *figureInput) (plots.Figure, vg.Length, vg.Length, error) {
+	c := in.chain()
+	if c == nil {
+		return nil, 0, 0, nil
+	}
+	full, cols := armColumnsToShow(c.Names, armNames(in.arms))
+	title := "Arm parameters after burn-in (Rref and width in kpc, pitch and kink in degrees)"
+	if !full {
+		title = "Arm reference radii (kpc) and pitch angles (degrees) after burn-in"
+	}
+	return in.triangle(title, cols, func(n string) string { return n })
+}
+
+// armColumnsToShow returns the arm parameters of the arm triangle: all of them up to
+// maxArmTriangle, else the reference radii and (first) pitch angles. full reports whether
+// all are shown.
+func armColumnsToShow(names, armNames []string) (full bool, cols []int) {
+	_, all, _ := chainColumns(names, armNames)
+	if len(all) <= maxArmTriangle {
+		return true, all
+	}
+	for _, j := range all {
+		if strings.HasSuffix(names[j], "_Rref") || strings.HasSuffix(names[j], "_pitch") {
+			cols = append(cols, j)
+		}
+	}
+	return false, cols
+}
+
+func armNames(a []plots.Arm) []string {
+	out := make([]string, len(a))
+	for i, x := range a {
+		out[i] = x.Name
+	}
+	return out
+}
+
+// traceFigure draws every walker's trace of each sampled parameter, the burn-in shaded; the
+// fractions' stick-breaking reals are shown as the membership fractions they stand for.
+func traceFigure(in *figureInput) (plots.Figure, vg.Length, vg.Length, error) {
+	c := in.chain()
+	if c == nil {
+		return nil, 0, 0, nil
+	}
+	_, _, sticks := chainColumns(c.Names, armNames(in.arms))
+	var keep []int
+	var names []string
+	for j, n := range c.Names {
+		if !slices.Contains(sticks, j) {
+			keep = append(keep, j)
+			names = append(names, n)
+		}
+	}
+	nf := 0
+	if len(sticks) > 0 {
+		nf = len(sticks) + 1
+		for k := range nf {
+			names = append(names, fractionLabel(in.sum.Components, k))
+		}
+	}
+	trace := make([][][]float64, c.Len())
+	reals := make([]float64, len(sticks))
+	for t := range trace {
+		trace[t] = make([][]float64, len(c.X[t]))
+		for w, x := range c.X[t] {
+			row := make([]float64, 0, len(names))
+			for _, j := range keep {
+				row = append(row, x[j])
+			}
+			if nf > 0 {
+				for k, j := range sticks {
+					reals[k] = x[j]
+				}
+				f, _ := prior.FractionsFromReals(nil, reals)
+				row = append(row, f...)
+			}
+			trace[t][w] = row
+		}
+	}
+	cols := 1
+	switch n := len(names); {
+	case n > 30:
+		cols = 3
+	case n > 8:
+		cols = 2
+	}
+	rows := (len(names) + cols - 1) / cols
+	fig, err := plots.NewTracePlot(plots.TraceData{
+		Title:   fmt.Sprintf("Walker traces: %d walkers, burn-in (%d steps) shaded", c.Walkers(), in.sum.Burn),
+		Names:   names,
+		Chain:   trace,
+		BurnIn:  min(in.sum.Burn, c.Len()),
+		Columns: cols,
+	})
+	if err != nil {
+		return nil, 0, 0, err
+	}
+	w := []vg.Length{8, 13, 17}[cols-1] * vg.Inch
+	h := vg.Length(max(4, 1.3*float64(rows)+0.9)) * vg.Inch
+	return fig, w, h, nil
+}
+
+// fractionLabel names the membership fraction of component k.
+func fractionLabel(components []string, k int) string {
+	if k < len(components) {
+		return "f_" + components[k]
+	}
+	return fmt.Sprintf("f_%d", k)
+}
+
+// ---- membership ----
+
+// membershipFigure draws each source's membership probabilities as a stacked bar.
+func membershipFigure(in *figureInput) (plots.Figure, vg.Length, vg.Length, error) {
+	var rows []plots.MemberSource
+	for i, r := range in.sum.Sources {
+		rows = append(rows, plots.MemberSource{Name: r.Name, Prob: in.membership(i), TiedArm: in.tied[i]})
+	}
+	if len(rows) == 0 {
+		return nil, 0, 0, nil
+	}
+	fig, err := plots.NewMembershipPlot(plots.MembershipData{Title: "Arm membership of each source", Arms: in.arms, Sources: rows})
+	if err != nil {
+		return nil, 0, 0, err
+	}
+	// Rows of about 11 pt, up to 14 in high, then more columns of 4.5 in each.
+	const rowPt, overheadIn, maxHeightIn = 11.0, 1.6, 14.0
+	h := min(maxHeightIn, max(4, overheadIn+float64(len(rows))*rowPt/72))
+	perCol := max(1, int((h-overheadIn)*72/8)) // the chart's least row height is 8 pt
+	cols := (len(rows) + perCol - 1) / perCol
+	w := max(7, 4.5*float64(cols))
+	return fig, vg.Length(w) * vg.Inch, vg.Length(h) * vg.Inch, nil
+}
+
+// allFinite reports whether every value is a finite number.
+func allFinite(xs ...float64) bool {
+	for _, x := range xs {
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			return false
+		}
+	}
+	return true
+}

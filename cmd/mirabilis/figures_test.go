@@ -1,0 +1,404 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"image"
+	"image/color"
+	"image/png"
+	"math"
+	"os"
+	"path/filepath"
+	"slices"
+	"strings"
+	"testing"
+
+	"github.com/mirabilis-astro/mirabilis/model"
+	"github.com/mirabilis-astro/mirabilis/model/catalog"
+	"github.com/mirabilis-astro/mirabilis/model/config"
+	"github.com/mirabilis-astro/mirabilis/model/fit"
+	"github.com/mirabilis-astro/mirabilis/model/mock"
+	"github.com/mirabilis-astro/mirabilis/plots"
+)
+
+// A small invented galaxy with two arms of our naming, and a survey of 40 sources.
+const figTestGalaxy = `
+catalog = "sources.csv"
+output = "run"
+
+[rotation]
+curve = "linear"
+
+[params]
+R0 = "fixed(8.1)"
+Theta0 = "fixed(228)"
+dTheta_dR = "fixed(-1)"
+Usun = "fixed(11)"
+Vsun = "fixed(14)"
+Wsun = "fixed(7)"
+Us = "fixed(1)"
+Vs = "fixed(-4)"
+Ws = "fixed(0)"
+sigma_vir = "fixed(5)"
+width_slope = "fixed(0)"
+
+[[arm]]
+name = "Vireo"
+azimuth_range = [-40, 140]
+radius = "fixed(6.1)"
+pitch = "fixed(12)"
+width = "fixed(0.3)"
+
+[[arm]]
+name = "Halcyon"
+azimuth_range = [-50, 110]
+radius = "fixed(10.2)"
+pitch = "fixed(10)"
+width = "fixed(0.3)"
+
+[survey]
+sources = 40
+seed = 17
+declination_range = [-35, 90]
+max_distance = 9
+min_distance = 0.5
+fractions = { field = 0.15 }
+labelled = 0.3
+missing_share = 0.1
+`
+
+// The fit of that galaxy: the rotation curve, Vsun, Vs, sigma_vir and the arms free.
+const figTestFit = `
+catalog = "sources.csv"
+output = "run"
+
+[rotation]
+curve = "linear"
+
+[params]
+R0 = "uniform(7, 9.5)"
+Theta0 = "uniform(190, 270)"
+dTheta_dR = "uniform(-6, 6)"
+Usun = 11
+Vsun = "uniform(0, 30)"
+Wsun = 7
+Us = 1
+Vs = "uniform(-20, 15)"
+Ws = 0
+sigma_vir = "uniform(1, 15)"
+width_slope = 0
+
+[[arm]]
+name = "Vireo"
+azimuth_range = [-40, 140]
+radius = "uniform(5.3, 6.9)"
+pitch = "uniform(5, 20)"
+width = "loguniform(0.1, 0.8)"
+
+[[arm]]
+name = "Halcyon"
+azimuth_range = [-50, 110]
+radius = "uniform(9.4, 11)"
+pitch = "uniform(5, 20)"
+width = "loguniform(0.1, 0.8)"
+
+[sampler]
+walkers = 32
+steps = 30
+burn = 10
+seed = 5
+`
+
+// TestFiguresOfSmallFit runs a short fit of a mock catalog and draws its figures: all six
+// must be PNG files, the map and the rotation curve of their intended sizes, and the map
+// must show both arms' colours.
+func TestFiguresOfSmallFit(t *testing.T) {
+	if testing.Short() {
+		t.Skip("runs a short fit")
+	}
+	dir := t.TempDir()
+	m, err := mock.Parse([]byte(figTestGalaxy), "galaxy.toml", dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sources, _, err := m.Draw(nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var cat bytes.Buffer
+	if err := catalog.Write(&cat, sources); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(filepath.Join(dir, "sources.csv"), cat.Bytes(), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	cfgPath := filepath.Join(dir, "fit.toml")
+	if err := os.WriteFile(cfgPath, []byte(figTestFit), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	cfg, err := config.Load(cfgPath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	out, err := fit.Fit(context.Background(), cfg, fit.Options{Steps: 30, Threads: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if out.Summary == nil {
+		t.Fatal("the fit ended without a summary")
+	}
+	paths, err := writeFigures(out)
+	if err != nil {
+		t.Fatalf("writeFigures: %v", err)
+	}
+	var got []string
+	for _, p := range paths {
+		if filepath.Dir(p) != filepath.Join(out.Dir, figuresDir) {
+			t.Errorf("figure %s is outside the run's figures folder", p)
+		}
+		got = append(got, filepath.Base(p))
+	}
+	want := []string{"map.png", "rotation.png", "triangle.png", "arms.png", "trace.png", "membership.png"}
+	if !slices.Equal(got, want) {
+		t.Fatalf("figures %v, want %v", got, want)
+	}
+	images := map[string]image.Image{}
+	for _, p := range paths {
+		data, err := os.ReadFile(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		// The PNG signature (ISO/IEC 15948, §5.2; section number from memory).
+		if !bytes.HasPrefix(data, []byte("\x89PNG\r\n\x1a\n")) {
+			t.Errorf("%s is not a PNG file", p)
+			continue
+		}
+		if len(data) < 20_000 {
+			t.Errorf("%s has only %d bytes", p, len(data))
+		}
+		img, err := png.Decode(bytes.NewReader(data))
+		if err != nil {
+			t.Errorf("%s: %v", p, err)
+			continue
+		}
+		images[filepath.Base(p)] = img
+	}
+	// Map and rotation curve: 9 × 9 in and 9 × 6 in at plots.PNGDPI.
+	for name, size := range map[string][2]float64{"map.png": {9, 9}, "rotation.png": {9, 6}} {
+		img := images[name]
+		if img == nil {
+			continue
+		}
+		b := img.Bounds()
+		if w, h := size[0]*plots.PNGDPI, size[1]*plots.PNGDPI; math.Abs(float64(b.Dx())-w) > 1 || math.Abs(float64(b.Dy())-h) > 1 {
+			t.Errorf("%s is %d × %d pixels, want %.0f × %.0f", name, b.Dx(), b.Dy(), w, h)
+		}
+	}
+	if img := images["map.png"]; img != nil {
+		for k := range 2 {
+			if n := pixelsNear(img, plots.ArmColor(k), 12); n < 50 {
+				t.Errorf("map.png: %d pixels in the colour of arm %d, want the arm drawn", n, k+1)
+			}
+		}
+	}
+	// The triangles of the globals and of the arms both have 6 free parameters: square, with
+	// tiles of at least 1.2 in.
+	for _, name := range []string{"triangle.png", "arms.png"} {
+		if img := images[name]; img != nil {
+			b := img.Bounds()
+			if b.Dx() != b.Dy() || b.Dx() < 6*1.2*plots.PNGDPI {
+				t.Errorf("%s of 6 parameters is %d × %d pixels, want a square of at least %.0f", name, b.Dx(), b.Dy(), 6*1.2*plots.PNGDPI)
+			}
+		}
+	}
+
+	// Without the chain the figures that need it are left out; the rotation curve then
+	// comes from the summary's draws.
+	bare := *out
+	bare.Result, bare.Dir = nil, t.TempDir()
+	paths, err = writeFigures(&bare)
+	if err != nil {
+		t.Fatalf("writeFigures without a chain: %v", err)
+	}
+	got = got[:0]
+	for _, p := range paths {
+		got = append(got, filepath.Base(p))
+	}
+	if want := []string{"map.png", "rotation.png", "membership.png"}; !slices.Equal(got, want) {
+		t.Errorf("figures without a chain %v, want %v", got, want)
+	}
+}
+
+// pixelsNear counts the pixels of img within tol (in each 8-bit channel) of colour c.
+func pixelsNear(img image.Image, c color.Color, tol int) int {
+	r0, g0, b0, _ := c.RGBA()
+	b := img.Bounds()
+	n := 0
+	for y := b.Min.Y; y < b.Max.Y; y++ {
+		for x := b.Min.X; x < b.Max.X; x++ {
+			r, g, bl, _ := img.At(x, y).RGBA()
+			if abs8(r, r0) <= tol && abs8(g, g0) <= tol && abs8(bl, b0) <= tol {
+				n++
+			}
+		}
+	}
+	return n
+}
+
+func abs8(a, b uint32) int {
+	d := int(a>>8) - int(b>>8)
+	if d < 0 {
+		return -d
+	}
+	return d
+}
+
+// TestRotationBands checks the credible bands against quantiles worked out by hand: 101
+// draws of a flat linear curve with Θ0 = 200, 201, …, 300 km/s. Outside the core Θ(R) = Θ0
+// at every R; inside it Θ(R) = Θ(R_core) R/R_core (MODEL.md: solid-body core). With the
+// midpoint quantile definition of mcmc.Quantile (Hyndman & Fan 1996, type 5) the p-quantile
+// of the equally spaced values 200 … 300 is 200 + (101 p − 0.5) km/s.
+func TestRotationBands(t *testing.T) {
+	var motions []*model.Motion
+	for k := range 101 {
+		curve, err := model.NewLinearCurve(8, 200+float64(k), 0, 2)
+		if err != nil {
+			t.Fatal(err)
+		}
+		m, err := model.NewMotion(8, curve, model.UVW{U: 10, V: 12, W: 7}, model.UVW{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		motions = append(motions, m)
+	}
+	b, err := rotationBands(motions, 16, 32)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(b.R) != 33 || b.R[0] != 0 || b.R[32] != 16 {
+		t.Fatalf("radii %v, want 0 to 16 kpc in 32 steps", b.R)
+	}
+	q := func(p float64) float64 { return 200 + (101*p - 0.5) }
+	for j, R := range b.R {
+		f := 1.0
+		if R < 2 {
+			f = R / 2
+		}
+		for _, c := range []struct {
+			name string
+			got  []float64
+			p    float64
+		}{{"median", b.Median, 0.5}, {"lo68", b.Lo68, 0.16}, {"hi68", b.Hi68, 0.84}, {"lo95", b.Lo95, 0.025}, {"hi95", b.Hi95, 0.975}} {
+			if want := f * q(c.p); math.Abs(c.got[j]-want) > 1e-9*want+1e-12 {
+				t.Errorf("R = %g kpc: %s %.10g, want %.10g", R, c.name, c.got[j], want)
+			}
+		}
+	}
+	if _, err := rotationBands(nil, 16, 32); err == nil {
+		t.Error("no draw: want an error")
+	}
+}
+
+// TestAzimuthalSpeed checks the speed along rotation implied by a source's observables
+// against the model's forward prediction: observables predicted for a source that moves
+// with Θ(R) + Vs must give back Θ(R) + Vs, whatever the frame the catalog uses.
+func TestAzimuthalSpeed(t *testing.T) {
+	curve, err := model.NewLinearCurve(8.2, 230, -1.5, model.DefaultCoreRadius)
+	if err != nil {
+		t.Fatal(err)
+	}
+	const vs = -6.0
+	m, err := model.NewMotion(8.2, curve, model.UVW{U: 11, V: 12, W: 7}, model.UVW{U: 3, V: vs, W: -1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct{ l, b, d float64 }{{30, 0.1, 4}, {110, -0.5, 3}, {200, 1, 6}, {330, 0, 9}} {
+		sight := model.NewSightline(c.l, c.b)
+		p := m.Predict(&sight, c.d)
+		R, _, _ := sight.InPlane(8.2, c.d)
+		want := curve.Theta(R) + vs
+		for _, src := range []model.Source{
+			{Sight: sight, PM: [2]float64{p.MuAlphaStar, p.MuDelta}, V: p.VLSR, VLSR: true},
+			{Sight: sight, PM: [2]float64{p.MuLStar, p.MuB}, PMGalactic: true, V: p.VHelio},
+		} {
+			if got := azimuthalSpeed(m, &src, c.d); math.Abs(got-want) > 1e-6 {
+				t.Errorf("l = %g°, d = %g kpc, Galactic PM %v: %.9g km/s, want %.9g", c.l, c.d, src.PMGalactic, got, want)
+			}
+		}
+	}
+}
+
+// TestRadiusRange checks the radii spanned by a stretch of a line of sight against plane
+// geometry: toward l = 30° the radius is least at the tangent point, d = R0 cos l, where it
+// is R0 sin l (common practice, no source).
+func TestRadiusRange(t *testing.T) {
+	const R0 = 8
+	s := model.NewSightline(30, 0)
+	dt := R0 * math.Cos(30*math.Pi/180)
+	lo, hi := radiusRange(&s, R0, dt-1, dt+1)
+	if want := R0 * 0.5; math.Abs(lo-want) > 1e-3 {
+		t.Errorf("least radius %.6f kpc, want %.6f at the tangent point", lo, want)
+	}
+	if want := math.Sqrt(R0*R0*0.25 + 1); math.Abs(hi-want) > 1e-9 {
+		t.Errorf("greatest radius %.9f kpc, want %.9f at either end", hi, want)
+	}
+}
+
+// TestMotionScale checks the arrow scale against the rule of its doc comment worked by
+// hand: the 80th percentile speed (midpoint definition, Hyndman & Fan 1996, type 5) draws
+// 5% of the map's radius.
+func TestMotionScale(t *testing.T) {
+	for _, c := range []struct {
+		speeds []float64
+		rMax   float64
+		want   float64
+	}{
+		{[]float64{20, 20, 20}, 10, 0.025},                               // 0.5/20
+		{[]float64{10, 20, 30, 40, 50}, 12, 0.6 / 45},                    // 80th percentile of 5 values: 45
+		{[]float64{50, 5, 40, 10, 30, 20, 60, 70, 80, 90}, 20, 1.0 / 75}, // sorted 5, 10, 20 … 90: midway between 70 and 80
+		{nil, 10, 0},
+		{[]float64{0, 0}, 10, 0},
+	} {
+		if got := motionScale(c.speeds, c.rMax); math.Abs(got-c.want) > 1e-12 {
+			t.Errorf("motionScale(%v, %g) = %g, want %g", c.speeds, c.rMax, got, c.want)
+		}
+	}
+}
+
+// TestChainColumns checks how sampled coordinates are sorted among the figures, and that
+// the arm triangle keeps only radii and pitch angles beyond maxArmTriangle parameters.
+func TestChainColumns(t *testing.T) {
+	armNames := []string{"Corvid", "Lantern"}
+	names := []string{"R0", "Theta0", "Corvid_Rref", "Corvid_pitch", "Corvid_width", "Vsun",
+		"Lantern_Rref", "Lantern_pitch", "Lantern_pitch2", "Lantern_kink", "Lantern_width", "Tamarisk_Rref", "stick_1", "stick_2"}
+	g, a, s := chainColumns(names, armNames)
+	// Tamarisk is no arm of this model: its name falls among the globals.
+	if !slices.Equal(g, []int{0, 1, 5, 11}) || !slices.Equal(a, []int{2, 3, 4, 6, 7, 8, 9, 10}) || !slices.Equal(s, []int{12, 13}) {
+		t.Errorf("globals %v, arms %v, reals %v", g, a, s)
+	}
+	if full, cols := armColumnsToShow(names, armNames); !full || len(cols) != 8 {
+		t.Errorf("8 arm parameters: full %v, %d shown; want all", full, len(cols))
+	}
+	var many, manyNames []string
+	for _, arm := range []string{"Corvid", "Lantern", "Tamarisk", "Halcyon", "Vireo", "Ember"} {
+		manyNames = append(manyNames, arm)
+		for _, suf := range []string{"_Rref", "_pitch", "_width"} {
+			many = append(many, arm+suf)
+		}
+	}
+	full, cols := armColumnsToShow(many, manyNames)
+	if full || len(cols) != 12 {
+		t.Fatalf("18 arm parameters: full %v, %d shown; want the 12 radii and pitch angles", full, len(cols))
+	}
+	for _, j := range cols {
+		if strings.HasSuffix(many[j], "_width") {
+			t.Errorf("%s shown among the radii and pitch angles", many[j])
+		}
+	}
+	for name, want := range map[string]string{"R0": "R0 (kpc)", "dTheta_dR": "dTheta_dR (km/s/kpc)", "Vs": "Vs (km/s)",
+		"Corvid_pitch2": "Corvid_pitch2 (deg)", "Corvid_width": "Corvid_width (kpc)", "alpha": "alpha", "f_field": "f_field"} {
+		if got := paramLabel(name); got != want {
+			t.Errorf("paramLabel(%q) = %q, want %q", name, got, want)
+		}
+	}
+}
