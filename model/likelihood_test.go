@@ -291,3 +291,16 @@ func TestMonitorFindsNothingAtPilot(t *testing.T) {
 		t.Errorf("after refinement the monitor still flags %v", bad)
 	}
 }
+
+// BenchmarkSourceLogL measures one source's ln L on its fixed quadrature; ns/op divided by
+// the node count it logs is the cost of one node.
+func BenchmarkSourceLogL(b *testing.B) {
+	spec := testSpec(b, ErrorsGaussian)
+	src := testSources()
+	L, p := buildTest(b, spec, src)
+	b.Logf("%d nodes", L.Nodes(0))
+	b.ResetTimer()
+	for range b.N {
+		L.SourceLogL(0, p)
+	}
+}

@@ -133,6 +133,42 @@ func (L *Likelihood) features(s *Source, pilots []*Params, fs []func(float64) fl
 			}
 		}
 	}
+	// Where the sightline crosses a kinked arm's kink azimuth, or a radius at which an arm's
+	// width reaches its floor: the arm density jumps or kinks there.
+	for _, p := range pilots {
+		if !L.Spec.Galaxy {
+			break
+		}
+		R0 := p.Motion.R0()
+		for _, a := range p.Layout.Arms {
+			if a.Kinked {
+				for n := -2; n <= 2; n++ {
+					b := a.BetaKink + 2*math.Pi*float64(n)
+					// The ray from the centre at azimuth b meets the line of sight at
+					// in-plane distance dc = R0 sin b / sin(b + l), on the ray's side.
+					den := math.Sin(b + s.Sight.L)
+					if den == 0 {
+						continue
+					}
+					dc := R0 * math.Sin(b) / den
+					if dc > 0 && (R0-dc*s.Sight.CosL)*math.Cos(b)+dc*s.Sight.SinL*math.Sin(b) > 0 {
+						add(math.Log(dc / cb))
+					}
+				}
+			}
+			if g := p.Layout.WidthSlope; g != 0 {
+				Rf := R0 + (arms.MinWidth-a.Width)/g
+				along := R0 * s.Sight.CosL
+				if h2 := Rf*Rf - R0*R0*s.Sight.SinL*s.Sight.SinL; Rf > 0 && h2 > 0 {
+					for _, dc := range []float64{along - math.Sqrt(h2), along + math.Sqrt(h2)} {
+						if dc > 0 {
+							add(math.Log(dc / cb))
+						}
+					}
+				}
+			}
+		}
+	}
 	var cross []arms.Crossing
 	for _, p := range pilots {
 		if L.Spec.Galaxy {

@@ -178,6 +178,16 @@ func (p *Posterior) LogDensity(x []float64) float64 {
 	return lp + p.Like.LogL(params)
 }
 
+// LogDensityParallel is LogDensity with the likelihood's sources shared among workers
+// goroutines; it returns the same value.
+func (p *Posterior) LogDensityParallel(x []float64, workers int) float64 {
+	lp, params := p.logPrior(x)
+	if math.IsInf(lp, -1) {
+		return lp
+	}
+	return lp + p.Like.LogLParallel(params, workers)
+}
+
 // Derived returns the derived quantities of a parameter set (MODEL §6): Omega_sun
 // (Θ0 + V⊙)/R0, Theta0_over_R0, Theta0_plus_Vsun, Oort_A and Oort_B at R0 (km/s/kpc or
 // km/s), Theta0 (useful for the nodes curve, where it is derived) and NAME_Rsun, the radius

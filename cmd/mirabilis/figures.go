@@ -269,16 +269,9 @@ func rotationBands(motions []*model.Motion, rMax float64, n int) (curveBands, er
 // (kpc) under motion m, from its proper motion and line-of-sight velocity: its peculiar V
 // plus Θ(R). The source must have all three kinematic terms.
 func azimuthalSpeed(m *model.Motion, s *model.Source, d float64) float64 {
-	mul, mub := s.PM[0], s.PM[1]
-	if !s.PMGalactic {
-		mul, mub = s.Sight.PMToGalactic(mul, mub)
-	}
-	vh := s.V
-	if s.VLSR {
-		vh = s.Sight.LSRToHelio(vh)
-	}
+	uvw, _ := s.PeculiarMotion(m, d)
 	R, _, _ := s.Sight.InPlane(m.R0(), d)
-	return m.PeculiarMotion(&s.Sight, d, mul, mub, vh).V + m.Curve().Theta(R)
+	return uvw.V + m.Curve().Theta(R)
 }
 
 // radiusRange returns the least and greatest Galactocentric radius (kpc) along sightline s

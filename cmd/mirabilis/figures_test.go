@@ -318,8 +318,8 @@ func TestAzimuthalSpeed(t *testing.T) {
 		R, _, _ := sight.InPlane(8.2, c.d)
 		want := curve.Theta(R) + vs
 		for _, src := range []model.Source{
-			{Sight: sight, PM: [2]float64{p.MuAlphaStar, p.MuDelta}, V: p.VLSR, VLSR: true},
-			{Sight: sight, PM: [2]float64{p.MuLStar, p.MuB}, PMGalactic: true, V: p.VHelio},
+			{Sight: sight, PM: [2]float64{p.MuAlphaStar, p.MuDelta}, HasPM: [2]bool{true, true}, V: p.VLSR, VLSR: true, HasV: true},
+			{Sight: sight, PM: [2]float64{p.MuLStar, p.MuB}, HasPM: [2]bool{true, true}, PMGalactic: true, V: p.VHelio, HasV: true},
 		} {
 			if got := azimuthalSpeed(m, &src, c.d); math.Abs(got-want) > 1e-6 {
 				t.Errorf("l = %g°, d = %g kpc, Galactic PM %v: %.9g km/s, want %.9g", c.l, c.d, src.PMGalactic, got, want)

@@ -149,14 +149,15 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 	}
 	j.logf("quadrature at the starting point: %d nodes per source (median; %d–%d)", st.MedianNodes, st.MinNodes, st.MaxNodes)
 	spreads := j.Spreads()
+	logDensity := func(x []float64) float64 { return j.Post.LogDensityParallel(x, threads) }
 	x := start
 	var lp float64
 	for round := 1; round <= 2; round++ {
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
-		budget := 150 * (len(x) + 1) / round
-		res, err := mcmc.FindMAP(j.Post.LogDensity, x, &mcmc.MAPSettings{Scale: mapScales(spreads, x), MaxEvaluations: budget, Restarts: 1})
+		budget := 100 * (len(x) + 1) / round
+		res, err := mcmc.FindMAP(logDensity, x, &mcmc.MAPSettings{Scale: mapScales(spreads, x), MaxEvaluations: budget, Restarts: 1})
 		if err != nil {
 			return nil, fmt.Errorf("finding the MAP: %w", err)
 		}
@@ -170,7 +171,7 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 	}
 	// Directions the data leave unconstrained (such as Wsun + Ws, which no observable
 	// sees) have almost no curvature: no spread may exceed the prior's.
-	spread := j.laplace(x, spreads)
+	spread := j.laplace(x, spreads, threads)
 	for i, s := range spreads {
 		if s > 0 && !(spread[i] <= s) {
 			spread[i] = s
@@ -195,7 +196,7 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 	if st, err = build(pilots); err != nil {
 		return nil, err
 	}
-	lp = j.Post.LogDensity(x)
+	lp = logDensity(x)
 	j.logf("quadrature at %d pilots: %d nodes per source (median; %d–%d), %d not converged",
 		len(pilots), st.MedianNodes, st.MinNodes, st.MaxNodes, len(st.Unconverged))
 	return &PilotResult{MAP: x, MAPLogDensity: lp, Spread: spread, Pilots: pilots, Stats: st}, nil
@@ -217,13 +218,14 @@ func mapScales(spreads, x []float64) []float64 {
 // the log posterior at x (central differences with steps of a tenth of the prior spread,
 // shrunk until finite), the marginal ones when −H is positive definite and the conditional
 // 1/√(−H_ii) otherwise; a coordinate with no curvature keeps a tenth of its prior spread.
-func (j *Job) laplace(x, prior []float64) []float64 {
+func (j *Job) laplace(x, prior []float64, threads int) []float64 {
 	n := len(x)
 	f := j.Post.LogDensity
 	f0 := f(x)
 	h := make([]float64, n)
+	scales := mapScales(prior, x)
 	for i := range h {
-		h[i] = 0.01 * mapScales(prior, x)[i]
+		h[i] = 0.01 * scales[i]
 	}
 	at := func(di, dj int, si, sj float64) float64 {
 		y := append([]float64(nil), x...)
@@ -231,17 +233,26 @@ func (j *Job) laplace(x, prior []float64) []float64 {
 		y[dj] += sj * h[dj]
 		return f(y)
 	}
-	H := mat.NewSymDense(n, nil)
+	// The n(n+1)/2 second derivatives are independent: share them among the threads.
+	type pair struct{ a, b int }
+	var pairs []pair
 	for a := range n {
 		for b := a; b < n; b++ {
-			var v float64
-			if a == b {
-				v = (at(a, a, 0.5, 0.5) - 2*f0 + at(a, a, -0.5, -0.5)) / (h[a] * h[a])
-			} else {
-				v = (at(a, b, 1, 1) - at(a, b, 1, -1) - at(a, b, -1, 1) + at(a, b, -1, -1)) / (4 * h[a] * h[b])
-			}
-			H.SetSym(a, b, -v)
+			pairs = append(pairs, pair{a, b})
 		}
+	}
+	vals := make([]float64, len(pairs))
+	model.Parallel(len(pairs), threads, func(k int) {
+		a, b := pairs[k].a, pairs[k].b
+		if a == b {
+			vals[k] = (at(a, a, 0.5, 0.5) - 2*f0 + at(a, a, -0.5, -0.5)) / (h[a] * h[a])
+		} else {
+			vals[k] = (at(a, b, 1, 1) - at(a, b, 1, -1) - at(a, b, -1, 1) + at(a, b, -1, -1)) / (4 * h[a] * h[b])
+		}
+	})
+	H := mat.NewSymDense(n, nil)
+	for k, pr := range pairs {
+		H.SetSym(pr.a, pr.b, -vals[k])
 	}
 	out := make([]float64, n)
 	var chol mat.Cholesky

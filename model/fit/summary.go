@@ -367,15 +367,7 @@ func SourceResults(job *Job, draws []*model.Params, median *model.Params) []Sour
 			r.PeculiarMeasured = true
 			var us, vs, ws []float64
 			for _, p := range draws {
-				mul, mub := src.PM[0], src.PM[1]
-				if !src.PMGalactic {
-					mul, mub = src.Sight.PMToGalactic(mul, mub)
-				}
-				vh := src.V
-				if src.VLSR {
-					vh = src.Sight.LSRToHelio(vh)
-				}
-				uvw := p.Motion.PeculiarMotion(&src.Sight, r.Distance, mul, mub, vh)
+				uvw, _ := src.PeculiarMotion(p.Motion, r.Distance)
 				us, vs, ws = append(us, uvw.U), append(vs, uvw.V), append(ws, uvw.W)
 			}
 			r.U, r.USD = meanSD(us)
