@@ -11,6 +11,7 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
+	"sort"
 	"strings"
 	"time"
 
@@ -414,19 +415,29 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 		if len(bad) == 0 {
 			return reply, nil
 		}
-		var list []string
+		// Name the worst few; the rest are counted.
+		worst := make([]int, 0, len(bad))
 		for _, i := range sample {
-			if e, ok := bad[i]; ok {
-				list = append(list, fmt.Sprintf("%s (%.1e)", job.Like.Sources[i].Name, e))
+			if _, ok := bad[i]; ok {
+				worst = append(worst, i)
 			}
+		}
+		sort.SliceStable(worst, func(a, b int) bool { return bad[worst[a]] > bad[worst[b]] })
+		var list []string
+		for k, i := range worst {
+			if k == 5 {
+				list = append(list, fmt.Sprintf("and %d more", len(worst)-5))
+				break
+			}
+			list = append(list, fmt.Sprintf("%s (%.1e)", job.Like.Sources[i].Name, bad[i]))
 		}
 		refine := ev.Step <= limit && !ev.Final
 		action := "kept as they are (past burn-in)"
 		if refine {
 			action = "refined"
 		}
-		job.logf("step %d: quadrature error above %.0e for %d source(s): %s; panels %s",
-			ev.Step, job.Spec.Tol, len(list), strings.Join(list, ", "), action)
+		job.logf("step %d: estimated quadrature error above %.0e for %d of %d sources checked: %s; panels %s",
+			ev.Step, job.Spec.Tol, len(worst), len(sample), strings.Join(list, ", "), action)
 		if !refine {
 			return reply, nil
 		}
