@@ -453,6 +453,19 @@ func (L *Likelihood) NodeMasses(i int, p *Params, dst []float64) []float64 {
 	return dst
 }
 
+// InnerProbability returns the probability under p that source i lies inside radius
+// rInner (kpc), from its integrand at the quadrature nodes.
+func (L *Likelihood) InnerProbability(i int, p *Params, rInner float64) float64 {
+	mass := L.NodeMasses(i, p, nil)
+	var in float64
+	for j, d := range L.grids[i].d {
+		if R, _, _ := L.Sources[i].Sight.InPlane(p.Motion.R0(), d); R < rInner {
+			in += mass[j]
+		}
+	}
+	return in
+}
+
 // MassQuantile returns the distance below which the fraction q of the node masses lies,
 // interpolating linearly in ln d between nodes.
 func MassQuantile(d, mass []float64, q float64) float64 {

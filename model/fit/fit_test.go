@@ -12,6 +12,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/mirabilis-astro/mirabilis/mcmc"
 	"github.com/mirabilis-astro/mirabilis/model/catalog"
 	"github.com/mirabilis-astro/mirabilis/model/config"
 	"github.com/mirabilis-astro/mirabilis/model/mock"
@@ -160,6 +161,30 @@ func TestResumeIsExact(t *testing.T) {
 	if len(a) == 0 || !bytes.Equal(a, b) {
 		t.Errorf("resumed chain differs from the uninterrupted one (%d and %d bytes)", len(b), len(a))
 	}
+	// Cancelled part-way (as Ctrl-C does), then resumed: the same chain again.
+	cut := filepath.Join(dir, "cut")
+	cctx, cancel := context.WithCancel(ctx)
+	out, err := Fit(cctx, load(t, path), Options{Out: cut, Threads: 2, Progress: func(p mcmc.Progress) {
+		if p.Step >= 23 {
+			cancel()
+		}
+	}})
+	cancel()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if out.Summary != nil || out.Result.Step >= 40 {
+		t.Fatalf("the cancelled fit ran to step %d", out.Result.Step)
+	}
+	if m, err := ReadManifest(cut); err != nil || m.State != StateStopped {
+		t.Errorf("manifest after cancelling: %+v, %v", m, err)
+	}
+	if _, err := Fit(ctx, load(t, path), Options{Out: cut, Resume: true, Threads: 1}); err != nil {
+		t.Fatal(err)
+	}
+	if c, _ := os.ReadFile(filepath.Join(cut, ChainFile)); !bytes.Equal(a, c) {
+		t.Errorf("chain resumed after cancelling at step %d differs from the uninterrupted one", out.Result.Step)
+	}
 	// A changed configuration is refused.
 	cfg := load(t, path)
 	cfg.Membership.FieldScale = 3.5
@@ -278,5 +303,50 @@ func TestRecovery(t *testing.T) {
 	t.Logf("arm sources clear of other arms: %d, assigned to their true arm: %d", clear, right)
 	if clear == 0 || float64(right) < 0.9*float64(clear) {
 		t.Errorf("true arm most probable for %d of %d arm sources clear of other arms; want at least 90%%", right, clear)
+	}
+}
+
+// TestExcludeInner: with exclude_inner, the sources whose distance lies mostly inside
+// R_inner at the first MAP point leave the likelihood, and the rest stay.
+func TestExcludeInner(t *testing.T) {
+	path, _ := setUp(t, 40, "\n[likelihood]\ninner_radius = 6\nexclude_inner = true\n\n[sampler]\nwalkers = 40\nsteps = 10\n")
+	cfg := load(t, path)
+	cat, err := catalog.ReadFile(cfg.Catalog)
+	if err != nil {
+		t.Fatal(err)
+	}
+	job, err := Prepare(cfg, cat)
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := job.Pilot(context.Background(), 1, 2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(res.Inner) == 0 || len(res.Inner) == len(job.Like.Sources) {
+		t.Fatalf("%d of %d sources flagged inside 6 kpc; the test needs some of each", len(res.Inner), len(job.Like.Sources))
+	}
+	if len(res.Excluded) != len(res.Inner) {
+		t.Errorf("excluded %d sources, flagged %d", len(res.Excluded), len(res.Inner))
+	}
+	p, err := job.Post.Params(res.MAP)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var want float64
+	excluded := map[string]bool{}
+	for _, n := range res.Excluded {
+		excluded[n] = true
+	}
+	for i, s := range job.Like.Sources {
+		if job.Like.Excluded[i] != excluded[s.Name] {
+			t.Errorf("%s: excluded %v, pilot says %v", s.Name, job.Like.Excluded[i], excluded[s.Name])
+		}
+		if !excluded[s.Name] {
+			want += job.Like.SourceLogL(i, p)
+		}
+	}
+	if got := job.Like.LogL(p); got != want {
+		t.Errorf("ln L = %.12g, the sources kept add up to %.12g", got, want)
 	}
 }

@@ -119,6 +119,10 @@ type PilotResult struct {
 	Pilots [][]float64
 	// Stats describes the final quadratures.
 	Stats model.LayoutStats
+	// Inner lists the sources whose distance lies inside R_inner with probability above
+	// one half at the first MAP point; Excluded lists those left out of the fit (all of
+	// Inner when the configuration's exclude_inner is set).
+	Inner, Excluded []string
 }
 
 // Pilot lays out the quadratures and finds the MAP point (MODEL §5, step 3): panels are
@@ -149,6 +153,7 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 	}
 	j.logf("quadrature at the starting point: %d nodes per source (median; %d–%d)", st.MedianNodes, st.MinNodes, st.MaxNodes)
 	spreads := j.Spreads()
+	res := &PilotResult{}
 	logDensity := func(x []float64) float64 { return j.Post.LogDensityParallel(x, threads) }
 	x := start
 	var lp float64
@@ -157,13 +162,25 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 			return nil, err
 		}
 		budget := 100 * (len(x) + 1) / round
-		res, err := mcmc.FindMAP(logDensity, x, &mcmc.MAPSettings{Scale: mapScales(spreads, x), MaxEvaluations: budget, Restarts: 1})
+		found, err := mcmc.FindMAP(logDensity, x, &mcmc.MAPSettings{Scale: mapScales(spreads, x), MaxEvaluations: budget, Restarts: 1})
 		if err != nil {
 			return nil, fmt.Errorf("finding the MAP: %w", err)
 		}
-		x, lp = res.X, res.LogDensity
-		j.logf("MAP search round %d: log posterior %.3f after %d evaluations", round, lp, res.Evaluations)
+		x, lp = found.X, found.LogDensity
+		j.logf("MAP search round %d: log posterior %.3f after %d evaluations", round, lp, found.Evaluations)
 		if round == 1 {
+			inner, err := j.flagInner(x)
+			if err != nil {
+				return nil, err
+			}
+			res.Inner = inner
+			if j.Config.Likelihood.ExcludeInner {
+				res.Excluded = inner
+				if err := j.Exclude(inner); err != nil {
+					return nil, err
+				}
+				j.logf("left out %d source(s) mostly inside R_inner = %g kpc", len(inner), j.Spec.Bar.RInner)
+			}
 			if _, err := build([][]float64{start, x}); err != nil {
 				return nil, err
 			}
@@ -199,7 +216,40 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 	lp = logDensity(x)
 	j.logf("quadrature at %d pilots: %d nodes per source (median; %d–%d), %d not converged",
 		len(pilots), st.MedianNodes, st.MinNodes, st.MaxNodes, len(st.Unconverged))
-	return &PilotResult{MAP: x, MAPLogDensity: lp, Spread: spread, Pilots: pilots, Stats: st}, nil
+	res.MAP, res.MAPLogDensity, res.Spread, res.Pilots, res.Stats = x, lp, spread, pilots, st
+	return res, nil
+}
+
+// flagInner returns the names of the sources whose distance lies inside R_inner with
+// probability above one half at sampled point x.
+func (j *Job) flagInner(x []float64) ([]string, error) {
+	p, err := j.Post.Params(x)
+	if err != nil {
+		return nil, err
+	}
+	var out []string
+	for i, s := range j.Like.Sources {
+		if j.Like.InnerProbability(i, p, j.Spec.Bar.RInner) > 0.5 {
+			out = append(out, s.Name)
+		}
+	}
+	return out, nil
+}
+
+// Exclude leaves the named sources out of the likelihood.
+func (j *Job) Exclude(names []string) error {
+	index := map[string]int{}
+	for i, s := range j.Like.Sources {
+		index[s.Name] = i
+	}
+	for _, n := range names {
+		i, ok := index[n]
+		if !ok {
+			return fmt.Errorf("no source named %q to leave out", n)
+		}
+		j.Like.Excluded[i] = true
+	}
+	return nil
 }
 
 // mapScales returns positive scales for the optimiser.

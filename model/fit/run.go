@@ -326,11 +326,16 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 				return nil, fmt.Errorf("%s: %w", ckPath, err)
 			}
 			job.logf("resuming at step %d", ck.Step)
-			if data, err := os.ReadFile(filepath.Join(dir, PilotFile)); err == nil {
-				pilot = new(PilotResult)
-				if err := json.Unmarshal(data, pilot); err != nil {
-					return nil, fmt.Errorf("%s: %w", filepath.Join(dir, PilotFile), err)
-				}
+			data, err := os.ReadFile(filepath.Join(dir, PilotFile))
+			if err != nil {
+				return nil, fmt.Errorf("run directory %s has a checkpoint but no pilot stage: %w", dir, err)
+			}
+			pilot = new(PilotResult)
+			if err := json.Unmarshal(data, pilot); err != nil {
+				return nil, fmt.Errorf("%s: %w", filepath.Join(dir, PilotFile), err)
+			}
+			if err := job.Exclude(pilot.Excluded); err != nil {
+				return nil, fmt.Errorf("%s: %w", filepath.Join(dir, PilotFile), err)
 			}
 		} else if !errors.Is(err, fs.ErrNotExist) {
 			return nil, err
