@@ -14,48 +14,17 @@ import (
 	"testing"
 
 	"github.com/mirabilis-astro/mirabilis/model"
-	"github.com/mirabilis-astro/mirabilis/model/catalog"
 	"github.com/mirabilis-astro/mirabilis/model/config"
 	"github.com/mirabilis-astro/mirabilis/model/fit"
 	"github.com/mirabilis-astro/mirabilis/model/mock"
 	"github.com/mirabilis-astro/mirabilis/plots"
 )
 
-// A small invented galaxy with two arms of our naming, and a survey of 40 sources.
-const figTestGalaxy = `
-catalog = "sources.csv"
-output = "run"
-
-[rotation]
-curve = "linear"
-
-[params]
-R0 = "fixed(8.1)"
-Theta0 = "fixed(228)"
-dTheta_dR = "fixed(-1)"
-Usun = "fixed(11)"
-Vsun = "fixed(14)"
-Wsun = "fixed(7)"
-Us = "fixed(1)"
-Vs = "fixed(-4)"
-Ws = "fixed(0)"
-sigma_vir = "fixed(5)"
-width_slope = "fixed(0)"
-
-[[arm]]
-name = "Vireo"
-azimuth_range = [-40, 140]
-radius = "fixed(6.1)"
-pitch = "fixed(12)"
-width = "fixed(0.3)"
-
-[[arm]]
-name = "Halcyon"
-azimuth_range = [-50, 110]
-radius = "fixed(10.2)"
-pitch = "fixed(10)"
-width = "fixed(0.3)"
-
+// figTestSurvey and figTestSampler complete the two-armed test galaxy of testdata/mock
+// (two-arms.toml, whose fixed parameters are the mock's truth, and two-arms-fit.toml, its
+// fit) for a small, short fit.
+const (
+	figTestSurvey = `
 [survey]
 sources = 40
 seed = 17
@@ -66,48 +35,24 @@ fractions = { field = 0.15 }
 labelled = 0.3
 missing_share = 0.1
 `
-
-// The fit of that galaxy: the rotation curve, Vsun, Vs, sigma_vir and the arms free.
-const figTestFit = `
-catalog = "sources.csv"
-output = "run"
-
-[rotation]
-curve = "linear"
-
-[params]
-R0 = "uniform(7, 9.5)"
-Theta0 = "uniform(190, 270)"
-dTheta_dR = "uniform(-6, 6)"
-Usun = 11
-Vsun = "uniform(0, 30)"
-Wsun = 7
-Us = 1
-Vs = "uniform(-20, 15)"
-Ws = 0
-sigma_vir = "uniform(1, 15)"
-width_slope = 0
-
-[[arm]]
-name = "Vireo"
-azimuth_range = [-40, 140]
-radius = "uniform(5.3, 6.9)"
-pitch = "uniform(5, 20)"
-width = "loguniform(0.1, 0.8)"
-
-[[arm]]
-name = "Halcyon"
-azimuth_range = [-50, 110]
-radius = "uniform(9.4, 11)"
-pitch = "uniform(5, 20)"
-width = "loguniform(0.1, 0.8)"
-
+	figTestSampler = `
 [sampler]
-walkers = 32
+walkers = 40
 steps = 30
 burn = 10
 seed = 5
 `
+)
+
+// readTestFile returns a file of testdata/mock with text appended.
+func readTestFile(t *testing.T, name, extra string) []byte {
+	t.Helper()
+	data, err := os.ReadFile(filepath.Join("..", "..", "testdata", "mock", name))
+	if err != nil {
+		t.Fatal(err)
+	}
+	return append(data, extra...)
+}
 
 // TestFiguresOfSmallFit runs a short fit of a mock catalog and draws its figures: all six
 // must be PNG files, the map and the rotation curve of their intended sizes, and the map
@@ -117,23 +62,19 @@ func TestFiguresOfSmallFit(t *testing.T) {
 		t.Skip("runs a short fit")
 	}
 	dir := t.TempDir()
-	m, err := mock.Parse([]byte(figTestGalaxy), "galaxy.toml", dir)
+	m, err := mock.Parse(readTestFile(t, "two-arms.toml", figTestSurvey), "galaxy.toml", dir)
 	if err != nil {
 		t.Fatal(err)
 	}
-	sources, _, err := m.Draw(nil)
+	data, _, err := m.Render(nil)
 	if err != nil {
 		t.Fatal(err)
 	}
-	var cat bytes.Buffer
-	if err := catalog.Write(&cat, sources); err != nil {
-		t.Fatal(err)
-	}
-	if err := os.WriteFile(filepath.Join(dir, "sources.csv"), cat.Bytes(), 0o644); err != nil {
+	if err := os.WriteFile(filepath.Join(dir, "sources.csv"), data, 0o644); err != nil {
 		t.Fatal(err)
 	}
 	cfgPath := filepath.Join(dir, "fit.toml")
-	if err := os.WriteFile(cfgPath, []byte(figTestFit), 0o644); err != nil {
+	if err := os.WriteFile(cfgPath, readTestFile(t, "two-arms-fit.toml", figTestSampler), 0o644); err != nil {
 		t.Fatal(err)
 	}
 	cfg, err := config.Load(cfgPath)

@@ -9,7 +9,6 @@ import (
 	"strconv"
 	"strings"
 
-	"github.com/mirabilis-astro/mirabilis/model/catalog"
 	"github.com/mirabilis-astro/mirabilis/model/fit"
 	"github.com/mirabilis-astro/mirabilis/model/mock"
 )
@@ -92,23 +91,19 @@ func runSimulate(env *runEnv, args []string) error {
 
 // simulateTo draws the mock and writes the catalog (to stdout for "-") and the truth file.
 func simulateTo(m *mock.Model, seed *uint64, out, truthPath string, env *runEnv) (int, error) {
-	sources, truth, err := m.Draw(seed)
+	data, truth, err := m.Render(seed)
 	if err != nil {
 		return 0, err
 	}
-	var cat bytes.Buffer
-	if err := catalog.Write(&cat, sources); err != nil {
-		return 0, err
-	}
 	if out == "-" {
-		if _, err := env.stdout.Write(cat.Bytes()); err != nil {
+		if _, err := env.stdout.Write(data); err != nil {
 			return 0, err
 		}
 	} else {
 		if err := os.MkdirAll(filepath.Dir(out), 0o755); err != nil {
 			return 0, err
 		}
-		if err := fit.WriteFileAtomic(out, cat.Bytes()); err != nil {
+		if err := fit.WriteFileAtomic(out, data); err != nil {
 			return 0, err
 		}
 	}
@@ -119,7 +114,7 @@ func simulateTo(m *mock.Model, seed *uint64, out, truthPath string, env *runEnv)
 			return 0, err
 		}
 	}
-	return len(sources), nil
+	return len(truth), nil
 }
 
 // seedFlag returns the value of a --seed flag, nil when it was not given.

@@ -18,42 +18,21 @@ import (
 	"github.com/mirabilis-astro/mirabilis/model/mock"
 )
 
-// smallGalaxy is a two-armed model galaxy of the project's own invention; its [params]
-// are the truth of the mock, and the fit's priors replace them (fitPriors).
-const smallGalaxy = `catalog = "sources.csv"
-output = "run"
+// The two-armed test galaxy of testdata/mock: its fixed parameters are the mock's truth,
+// and two-arms-fit.toml fits it with broad priors.
+const (
+	testGalaxy    = "../../testdata/mock/two-arms.toml"
+	testGalaxyFit = "../../testdata/mock/two-arms-fit.toml"
+)
 
-[params]
-R0 = "fixed(8.2)"
-Theta0 = "fixed(232)"
-dTheta_dR = "fixed(-0.5)"
-Usun = "fixed(10.5)"
-Vsun = "fixed(12)"
-Wsun = "fixed(7.5)"
-Us = "fixed(2)"
-Vs = "fixed(-3)"
-Ws = "fixed(0)"
-sigma_vir = "fixed(6)"
-
-[[arm]]
-name = "Corvid"
-azimuth_range = [-40, 150]
-radius = "fixed(5.2)"
-pitch = "fixed(12)"
-width = "fixed(0.25)"
-
-[[arm]]
-name = "Tamarisk"
-azimuth_range = [-60, 110]
-radius = "fixed(9.4)"
-pitch = "fixed(11)"
-width = "fixed(0.3)"
-
+// surveyOf is the [survey] table of the tests' mocks, drawing n sources.
+func surveyOf(n int) string {
+	return fmt.Sprintf(`
 [survey]
 sources = %d
 seed = 11
-declination_range = [-35, 90]
-max_distance = 12
+declination_range = [-90, 90]
+max_distance = 18
 min_distance = 0.4
 fractions = { field = 0.15 }
 parallax_error = [0.008, 0.003]
@@ -62,56 +41,36 @@ velocity_error = 3
 labelled = 0.1
 galactic_share = 0.1
 missing_share = 0.05
-`
+`, n)
+}
 
-// fitPriors turns the mock's fixed truths into the priors of a fit.
-var fitPriors = strings.NewReplacer(
-	`"fixed(8.2)"`, `"uniform(6.5, 10)"`,
-	`"fixed(232)"`, `"uniform(180, 290)"`,
-	`"fixed(-0.5)"`, `"uniform(-8, 8)"`,
-	`"fixed(10.5)"`, `"uniform(-5, 25)"`,
-	`"fixed(12)"`, `"uniform(-10, 35)"`,
-	`"fixed(7.5)"`, `"uniform(0, 15)"`,
-	`"fixed(2)"`, `"uniform(-20, 20)"`,
-	`"fixed(-3)"`, `"normal(-3, 3)"`,
-	`"fixed(0)"`, `"uniform(-10, 10)"`,
-	`"fixed(6)"`, `"uniform(0.5, 20)"`,
-	`"fixed(5.2)"`, `"uniform(4.2, 6.2)"`,
-	`"fixed(9.4)"`, `"uniform(8.5, 10.5)"`,
-	`pitch = "fixed(12)"`, `pitch = "uniform(4, 25)"`,
-	`pitch = "fixed(11)"`, `pitch = "uniform(4, 25)"`,
-	`"fixed(0.25)"`, `"loguniform(0.05, 1)"`,
-	`"fixed(0.3)"`, `"loguniform(0.05, 1)"`,
-)
-
-// setUp writes a mock catalog of n sources and a fit configuration into a new folder and
-// returns the configuration's path and the mock.
-func setUp(t *testing.T, n int, sampler string) (string, *mock.Model) {
+// setUp writes a mock catalog of n sources and the fit's configuration, with the given
+// extra tables appended, into a new folder and returns the configuration's path and the
+// mock.
+func setUp(t *testing.T, n int, extra string) (string, *mock.Model) {
 	t.Helper()
 	dir := t.TempDir()
-	desc := fmt.Sprintf(smallGalaxy, n)
-	m, err := mock.Parse([]byte(desc), "galaxy.toml", dir)
+	desc, err := os.ReadFile(testGalaxy)
 	if err != nil {
 		t.Fatal(err)
 	}
-	src, _, err := m.Draw(nil)
+	m, err := mock.Parse(append(desc, surveyOf(n)...), "galaxy.toml", dir)
 	if err != nil {
 		t.Fatal(err)
 	}
-	var b bytes.Buffer
-	if err := catalog.Write(&b, src); err != nil {
+	data, _, err := m.Render(nil)
+	if err != nil {
 		t.Fatal(err)
 	}
-	if err := os.WriteFile(filepath.Join(dir, "sources.csv"), b.Bytes(), 0o644); err != nil {
+	if err := os.WriteFile(filepath.Join(dir, "sources.csv"), data, 0o644); err != nil {
 		t.Fatal(err)
 	}
-	// The fit: the same arms with broad priors, without the survey.
-	body := desc[:strings.Index(desc, "[survey]")]
-	body = strings.Replace(body, `pitch = "fixed(12)"`, `pitch = "uniform(4, 25)"`, 1)
-	body = fitPriors.Replace(body)
-	body += sampler
+	body, err := os.ReadFile(testGalaxyFit)
+	if err != nil {
+		t.Fatal(err)
+	}
 	path := filepath.Join(dir, "fit.toml")
-	if err := os.WriteFile(path, []byte(body), 0o644); err != nil {
+	if err := os.WriteFile(path, append(body, extra...), 0o644); err != nil {
 		t.Fatal(err)
 	}
 	return path, m
@@ -244,7 +203,8 @@ func TestRecovery(t *testing.T) {
 	if os.Getenv("MIRABILIS_LONG") != "" {
 		n, steps = 300, 3000
 	}
-	path, m := setUp(t, n, fmt.Sprintf("\n[sampler]\nwalkers = 40\nsteps = %d\nburn = %d\ncheckpoint_every = 100\nseed = 3\n", steps, steps/2))
+	path, m := setUp(t, n, fmt.Sprintf("\n[sampler]\nwalkers = 40\nsteps = %d\nburn = %d\ncheckpoint_every = 100\nseed = 3\n"+
+		"moves = { stretch = 0.2, differential_evolution = 0.8 }\n", steps, steps/2))
 	out, err := Fit(context.Background(), load(t, path), Options{Out: filepath.Join(filepath.Dir(path), "run")})
 	if err != nil {
 		t.Fatal(err)

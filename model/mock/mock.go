@@ -418,6 +418,19 @@ func round(x float64, digits int) float64 {
 	return math.Round(x*p) / p
 }
 
+// Render draws the mock and returns the catalog as CSV with the true values.
+func (m *Model) Render(seed *uint64) ([]byte, []Truth, error) {
+	sources, truth, err := m.Draw(seed)
+	if err != nil {
+		return nil, nil, err
+	}
+	var cat bytes.Buffer
+	if err := catalog.Write(&cat, sources); err != nil {
+		return nil, nil, err
+	}
+	return cat.Bytes(), truth, nil
+}
+
 // WriteTruth writes the true values of the sources as CSV: name, component, distance (kpc),
 // R (kpc), beta (deg), z (kpc).
 func WriteTruth(w *bytes.Buffer, truth []Truth) {

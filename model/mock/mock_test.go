@@ -2,6 +2,7 @@ package mock
 
 import (
 	"math"
+	"os"
 	"strings"
 	"testing"
 
@@ -9,34 +10,9 @@ import (
 	"github.com/mirabilis-astro/mirabilis/model/catalog"
 )
 
-const galaxy = `catalog = "never-written.csv"
-
-[params]
-R0 = "fixed(8.2)"
-Theta0 = "fixed(232)"
-dTheta_dR = "fixed(-0.5)"
-Usun = "fixed(10.5)"
-Vsun = "fixed(12)"
-Wsun = "fixed(7.5)"
-Us = "fixed(2)"
-Vs = "fixed(-3)"
-Ws = "fixed(1)"
-sigma_vir = "fixed(6)"
-
-[[arm]]
-name = "Corvid"
-azimuth_range = [-40, 150]
-radius = "fixed(5.2)"
-pitch = "fixed(12)"
-width = "fixed(0.25)"
-
-[[arm]]
-name = "Tamarisk"
-azimuth_range = [-60, 110]
-radius = "fixed(9.4)"
-pitch = "fixed(11)"
-width = "fixed(0.3)"
-
+// survey is the [survey] table of the test: precise kinematics, a declination and a
+// distance limit.
+const survey = `
 [survey]
 sources = 3000
 seed = 5
@@ -52,6 +28,16 @@ galactic_share = 0.3
 missing_share = 0
 `
 
+// testGalaxy reads the two-armed test galaxy of testdata/mock and adds the survey.
+func testGalaxy(t *testing.T, survey string) []byte {
+	t.Helper()
+	data, err := os.ReadFile("../../testdata/mock/two-arms.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	return append(data, survey...)
+}
+
 // TestDrawFollowsTheModel checks the mock against the model it draws from: the selection
 // holds, the shares of the components follow the fractions, arm sources scatter about their
 // arm's centre line as N(0, w) across it, and the peculiar motions recovered from the mock's
@@ -59,7 +45,7 @@ missing_share = 0
 // astropy in package model) have the configured mean and the dispersion σ_vir. Tolerances
 // are four standard errors of the sample statistics.
 func TestDrawFollowsTheModel(t *testing.T) {
-	m, err := Parse([]byte(galaxy), "galaxy.toml", t.TempDir())
+	m, err := Parse(testGalaxy(t, survey), "galaxy.toml", t.TempDir())
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -117,8 +103,8 @@ func TestDrawFollowsTheModel(t *testing.T) {
 	// Shares follow the fractions when nothing is selected (the selection above favours the
 	// arms, which lie nearer): binomial standard errors.
 	open := strings.NewReplacer("declination_range = [-30, 60]", "declination_range = [-90, 90]",
-		"max_distance = 15", "max_distance = 60", "min_distance = 0.5", "min_distance = 0.05").Replace(galaxy)
-	mAll, err := Parse([]byte(open), "galaxy.toml", t.TempDir())
+		"max_distance = 15", "max_distance = 60", "min_distance = 0.5", "min_distance = 0.05").Replace(survey)
+	mAll, err := Parse(testGalaxy(t, open), "galaxy.toml", t.TempDir())
 	if err != nil {
 		t.Fatal(err)
 	}
