@@ -39,10 +39,10 @@ catalog does not say), and run/ (the run directory, see "mirabilis help fit").
 Running the demo again replaces that run. Edit demo-fit.toml and run
 "mirabilis fit DIR/demo-fit.toml --force" to try other settings.`,
 		SetFlags: func(fs *flag.FlagSet) {
-			fs.String("out", "mirabilis-demo", "folder for the demo's files")
-			fs.Int("threads", 0, "goroutines evaluating the likelihood (0 = all cores)")
-			fs.Int("steps", 0, "total chain length (default: the demo configuration's)")
-			fs.String("seed", "", "seed of the sampler (default: the demo configuration's)")
+			fs.String("out", "mirabilis-demo", "`DIR` for the demo's files")
+			fs.Int("threads", 0, "`N` goroutines evaluating the likelihood (0 = all cores)")
+			fs.Int("steps", 0, "total chain length `N` (default: the demo configuration's)")
+			fs.String("seed", "", "`N`, the seed of the sampler (default: the demo configuration's)")
 		},
 		Run: runDemo,
 	})

@@ -30,8 +30,8 @@ With --format json the output is an object with the keys log_prior,
 log_likelihood and sources, an array of objects with name, log_likelihood and
 membership (an object from component — "field" or an arm's name — to probability).`,
 		SetFlags: func(fs *flag.FlagSet) {
-			fs.String("params", "", "parameter values, a JSON object keyed by name (required)")
-			fs.String("format", "text", "output format: text or json")
+			fs.String("params", "", "`PARAMS.json`: parameter values, a JSON object keyed by name (required)")
+			fs.String("format", "text", "output `FORMAT`: text or json")
 		},
 		Run: runEval,
 	})

@@ -59,13 +59,13 @@ is refused if the configuration or the catalog changed.
 
 The same seed gives the same chain, whatever the number of threads.`,
 		SetFlags: func(fs *flag.FlagSet) {
-			fs.String("out", "", "run directory (default: the configuration's output)")
-			fs.String("seed", "", "seed of the random streams (default: the configuration's)")
-			fs.Int("threads", 0, "goroutines evaluating the likelihood (default: the configuration's, 0 = all cores)")
-			fs.Int("steps", 0, "total chain length (default: the configuration's)")
+			fs.String("out", "", "run directory `DIR` (default: the configuration's output)")
+			fs.String("seed", "", "`N`, the seed of the random streams (default: the configuration's)")
+			fs.Int("threads", 0, "`N` goroutines evaluating the likelihood (default: the configuration's, 0 = all cores)")
+			fs.Int("steps", 0, "total chain length `N` (default: the configuration's)")
 			fs.Bool("resume", false, "continue the stopped run in the run directory")
 			fs.Bool("force", false, "replace a run directory that holds a run")
-			fs.Duration("time", 0, "stop cleanly after this long (e.g. 2h30m), leaving a run to --resume")
+			fs.Duration("time", 0, "stop cleanly after `DURATION` (e.g. 2h30m), leaving a run to --resume")
 		},
 		Run: runFit,
 	})

@@ -218,7 +218,7 @@ func printCommandHelp(w io.Writer, c *command) {
 				name = " " + name
 			}
 			fmt.Fprintf(w, "  --%s%s\n    \t%s", f.Name, name, strings.ReplaceAll(usage, "\n", "\n    \t"))
-			if f.DefValue != "" && f.DefValue != "false" && f.DefValue != "0" {
+			if f.DefValue != "" && f.DefValue != "false" && f.DefValue != "0" && f.DefValue != "0s" {
 				fmt.Fprintf(w, " (default %s)", f.DefValue)
 			}
 			fmt.Fprintln(w)

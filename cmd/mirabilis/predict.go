@@ -35,10 +35,10 @@ The output has one row (csv) or one object (json) per point with the keys
   pmra, pmdec, pml, pmb (mas/yr; pmra = μα cos δ, pml = μl cos b),
   vhelio, vlsr (km/s).`,
 		SetFlags: func(fs *flag.FlagSet) {
-			fs.String("params", "", "parameter values, a JSON object keyed by name (required)")
-			fs.String("at", "", "the places: CSV with l,b or ra,dec and distance (required)")
-			fs.String("format", "csv", "output format: csv or json")
-			fs.Float64("core-radius", model.DefaultCoreRadius, "radius (kpc) inside which the rotation rises as a solid body")
+			fs.String("params", "", "`PARAMS.json`: parameter values, a JSON object keyed by name (required)")
+			fs.String("at", "", "`POINTS.csv`: the places, CSV with l,b or ra,dec and distance (required)")
+			fs.String("format", "csv", "output `FORMAT`: csv or json")
+			fs.Float64("core-radius", model.DefaultCoreRadius, "radius `KPC` inside which the rotation rises as a solid body")
 		},
 		Run: runPredict,
 	})

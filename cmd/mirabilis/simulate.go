@@ -47,9 +47,9 @@ with the model's rotation and mean peculiar motion plus the intrinsic scatter
 configuration's catalog path; "-" is standard output), the true distances and
 memberships to --truth (default: the catalog's name with "-truth" added).`,
 		SetFlags: func(fs *flag.FlagSet) {
-			fs.String("o", "", "the catalog to write (default: the configuration's catalog path; - for standard output)")
-			fs.String("truth", "", "where to write the true distances and memberships")
-			fs.String("seed", "", "seed of the draws, replacing the survey's")
+			fs.String("o", "", "the catalog to write, `CATALOG.csv` (default: the configuration's catalog path; - for standard output)")
+			fs.String("truth", "", "`TRUTH.csv`, where to write the true distances and memberships")
+			fs.String("seed", "", "`N`, the seed of the draws, replacing the survey's")
 		},
 		Run: runSimulate,
 	})
