@@ -80,9 +80,10 @@ where arm NAME crosses the line from the centre through the Sun).`
 
 // point is one place at which to predict.
 type point struct {
-	name     string
-	sight    model.Sightline
-	distance float64
+	name         string
+	sight        model.Sightline
+	l, b, ra, de float64 // deg: the position as given, and converted
+	distance     float64
 }
 
 var predictKeys = []string{"name", "l", "b", "ra", "dec", "distance", "R", "beta", "theta",
@@ -116,8 +117,7 @@ func runPredict(env *runEnv, args []string) error {
 	rows := make([][]float64, len(points))
 	for i, p := range points {
 		pr := motion.Predict(&p.sight, p.distance)
-		ra, dec := model.GalacticToICRS(p.sight.LDeg(), p.sight.BDeg())
-		rows[i] = []float64{p.sight.LDeg(), p.sight.BDeg(), ra, dec, p.distance, pr.R, pr.Beta() * 180 / math.Pi, pr.Theta,
+		rows[i] = []float64{p.l, p.b, p.ra, p.de, p.distance, pr.R, pr.Beta() * 180 / math.Pi, pr.Theta,
 			pr.MuAlphaStar, pr.MuDelta, pr.MuLStar, pr.MuB, pr.VHelio, pr.VLSR}
 	}
 	if format == "json" {
@@ -213,11 +213,13 @@ func readPoints(path string) ([]point, error) {
 			p.name = rec[i]
 		}
 		if galactic {
-			l, b := num("l", -360, 360), num("b", -90, 90)
-			p.sight = model.NewSightline(l, b)
+			p.l, p.b = math.Mod(num("l", -360, 360)+360, 360), num("b", -90, 90)
+			p.ra, p.de = model.GalacticToICRS(p.l, p.b)
+			p.sight = model.NewSightline(p.l, p.b)
 		} else {
-			ra, dec := num("ra", 0, 360), num("dec", -90, 90)
-			p.sight = model.NewSightlineICRS(ra, dec)
+			p.ra, p.de = num("ra", 0, 360), num("dec", -90, 90)
+			p.l, p.b = model.ICRSToGalactic(p.ra, p.de)
+			p.sight = model.NewSightlineICRS(p.ra, p.de)
 		}
 		p.distance = num("distance", 1e-6, 1e3)
 		out = append(out, p)
