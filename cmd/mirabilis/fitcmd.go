@@ -1,6 +1,8 @@
 package main
 
 import (
+	"context"
+	"errors"
 	"flag"
 	"fmt"
 	"io"
@@ -124,6 +126,9 @@ func fitAndReport(env *runEnv, cfg *config.Config, opts fit.Options) (*fit.Outco
 	opts.Log = pr
 	out, err := fit.Fit(env.ctx, cfg, opts)
 	pr.finish()
+	if errors.Is(err, context.Canceled) {
+		return nil, fmt.Errorf("interrupted before sampling began; the run in %s continues with --resume", cfg.Output)
+	}
 	if err != nil {
 		return nil, err
 	}

@@ -154,7 +154,14 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 	j.logf("quadrature at the starting point: %d nodes per source (median; %d–%d)", st.MedianNodes, st.MinNodes, st.MaxNodes)
 	spreads := j.Spreads()
 	res := &PilotResult{}
-	logDensity := func(x []float64) float64 { return j.Post.LogDensityParallel(x, threads) }
+	// Once the context is cancelled every point looks impossible, which ends the search
+	// within its budget at little cost; the cancellation is reported below.
+	logDensity := func(x []float64) float64 {
+		if ctx.Err() != nil {
+			return math.Inf(-1)
+		}
+		return j.Post.LogDensityParallel(x, threads)
+	}
 	x := start
 	var lp float64
 	for round := 1; round <= 2; round++ {
@@ -163,6 +170,9 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 		}
 		budget := 100 * (len(x) + 1) / round
 		found, err := mcmc.FindMAP(logDensity, x, &mcmc.MAPSettings{Scale: mapScales(spreads, x), MaxEvaluations: budget, Restarts: 1})
+		if cerr := ctx.Err(); cerr != nil {
+			return nil, cerr
+		}
 		if err != nil {
 			return nil, fmt.Errorf("finding the MAP: %w", err)
 		}
@@ -188,6 +198,9 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 	}
 	// Directions the data leave unconstrained (such as Wsun + Ws, which no observable
 	// sees) have almost no curvature: no spread may exceed the prior's.
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
 	spread := j.laplace(x, spreads, threads)
 	for i, s := range spreads {
 		if s > 0 && !(spread[i] <= s) {

@@ -218,7 +218,17 @@ func Fit(ctx context.Context, cfg *config.Config, opts Options) (*Outcome, error
 		logw = io.MultiWriter(logFile, opts.Log)
 	}
 	job.Log = logw
-	return runIn(ctx, job, dir, resuming, refineUntil, opts)
+	out, err := runIn(ctx, job, dir, resuming, refineUntil, opts)
+	if err != nil {
+		// The directory stays as a run to resume; say why it stopped.
+		updateManifest(dir, func(m *Manifest) {
+			if m.State != StateFinished {
+				m.State, m.StopReason = StateStopped, err.Error()
+			}
+		})
+		fmt.Fprintf(logFile, "stopped: %v\n", err)
+	}
+	return out, err
 }
 
 // claimDir makes sure dir may hold this run, creating it whole if it does not exist. It
@@ -468,7 +478,6 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 	job.logf("sampling: %d walkers, %d dimensions, seed %d", set.Walkers, len(names), set.Seed)
 	res, err := mcmc.Run(ctx, mcmc.Problem{LogDensity: job.Post.LogDensity, Dim: len(names)}, start, set)
 	if err != nil {
-		updateManifest(dir, func(m *Manifest) { m.State = StateStopped; m.StopReason = err.Error() })
 		return nil, err
 	}
 	out.Result = res
