@@ -299,8 +299,10 @@ func logEdge(u, v float64) float64 {
 
 // Densities stores ρ_0(R) in dst[0] and ρ_k(R, β) of arm k in dst[k+1] as plain densities per
 // kpc² (not logarithms), for a point at radius R (kpc) and azimuth beta (radians, any real
-// value). It costs about half of LogDensities, but a density far from an arm underflows to
-// zero (beyond about 38 widths); use LogDensities where such values matter. It panics if
+// value). It costs about half of LogDensities, for a mixture that is summed in plain
+// numbers: a winding whose Gaussian factor exp(−δ²/2w²) is below e^−70 (δ beyond about 11.8
+// widths) is left out, so each density is exact to within 1e-30 kpc⁻², far below any field
+// density in the distance range; use LogDensities where such values matter. It panics if
 // len(dst) != NumArms()+1. It does not allocate.
 func (d *Density) Densities(dst []float64, R, beta float64) {
 	if len(dst) != len(d.arms)+1 {
@@ -316,11 +318,11 @@ func (d *Density) Densities(dst []float64, R, beta float64) {
 	}
 }
 
-// maxHalfSquare is the largest δ²/(2w²) whose Gaussian factor is kept; exp(−745) is the
-// smallest positive float64.
-const maxHalfSquare = 745
+// maxHalfSquare is the largest δ²/(2w²) whose Gaussian factor Densities keeps: e^−70 is
+// 4e-31, and every other factor of an arm's density is at most of order one per kpc².
+const maxHalfSquare = 70
 
-// maxOffsetLinear is √(2·maxHalfSquare): the |δ|/w beyond which the Gaussian factor is zero.
+// maxOffsetLinear is √(2·maxHalfSquare): the |δ|/w beyond which Densities leaves a winding out.
 var maxOffsetLinear = math.Sqrt(2 * maxHalfSquare)
 
 // arm is ρ_k in linear form: Σ_n E(β_n) cos ψ(β_n) exp(−δ_n²/(2w²)) / (√(2π) w Z R).
