@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+	"strings"
 	"sync"
 
 	"github.com/mirabilis-astro/mirabilis/model/catalog"
@@ -63,20 +64,9 @@ func NewSources(cat *catalog.Catalog, spec *Spec) ([]Source, error) {
 		out[i] = s
 	}
 	if len(bad) > 0 {
-		return nil, fmt.Errorf("%d source(s) name unknown arms:\n  %s", len(bad), joinLines(bad))
+		return nil, fmt.Errorf("%d source(s) name unknown arms:\n  %s", len(bad), strings.Join(bad, "\n  "))
 	}
 	return out, nil
-}
-
-func joinLines(lines []string) string {
-	s := ""
-	for i, l := range lines {
-		if i > 0 {
-			s += "\n  "
-		}
-		s += l
-	}
-	return s
 }
 
 // DistanceRange returns the distances (kpc) over which the source's integral runs: ±5σ in

@@ -5,9 +5,9 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"github.com/mirabilis-astro/mirabilis/model/config"
 	"io"
 	"os"
-	"strconv"
 	"strings"
 )
 
@@ -28,24 +28,23 @@ type CurveSettings struct {
 }
 
 // Parameter names of the kinematic model, as used in parameter files, chain columns and
-// summaries.
+// summaries; package config holds the full list.
 const (
-	ParamR0       = "R0"        // kpc
-	ParamTheta0   = "Theta0"    // km/s
-	ParamSlope    = "dTheta_dR" // km/s/kpc, linear curve
-	ParamAlpha    = "alpha"     // power curve exponent
-	ParamUsun     = "Usun"      // km/s
-	ParamVsun     = "Vsun"      // km/s
-	ParamWsun     = "Wsun"      // km/s
-	ParamUs       = "Us"        // km/s
-	ParamVs       = "Vs"        // km/s
-	ParamWs       = "Ws"        // km/s
-	paramNodeStem = "Theta_"    // Theta_1 … Theta_N, km/s, nodes curve
+	ParamR0     = config.NameR0       // kpc
+	ParamTheta0 = config.NameTheta0   // km/s
+	ParamSlope  = config.NameDThetaDR // km/s/kpc, linear curve
+	ParamAlpha  = config.NameAlpha    // power curve exponent
+	ParamUsun   = config.NameUsun     // km/s
+	ParamVsun   = config.NameVsun     // km/s
+	ParamWsun   = config.NameWsun     // km/s
+	ParamUs     = config.NameUs       // km/s
+	ParamVs     = config.NameVs       // km/s
+	ParamWs     = config.NameWs       // km/s
 )
 
 // NodeParamName returns the parameter name of the speed at the j-th node (1-based),
 // "Theta_j".
-func NodeParamName(j int) string { return paramNodeStem + strconv.Itoa(j) }
+func NodeParamName(j int) string { return config.NodeName(j) }
 
 // MotionFromParams builds the Motion described by a flat set of parameter values keyed by
 // name (R0, Theta0, dTheta_dR or alpha or Theta_1…Theta_N, Usun, Vsun, Wsun, Us, Vs, Ws) and
@@ -181,7 +180,7 @@ func checkUnusedParam(name string, fam CurveFamily, nNodes int) error {
 	switch {
 	case name == ParamSlope || name == ParamAlpha:
 		return fmt.Errorf("parameter %s does not belong to the %s rotation curve", name, fam)
-	case isNodeParam(name):
+	case config.IsNodeName(name):
 		if fam != CurveNodes {
 			return fmt.Errorf("parameter %s does not belong to the %s rotation curve", name, fam)
 		}
@@ -192,15 +191,6 @@ func checkUnusedParam(name string, fam CurveFamily, nNodes int) error {
 		return nil
 	}
 	return fmt.Errorf("unknown parameter %q", name)
-}
-
-func isNodeParam(name string) bool {
-	rest, ok := strings.CutPrefix(name, paramNodeStem)
-	if !ok || rest == "" {
-		return false
-	}
-	j, err := strconv.Atoi(rest)
-	return err == nil && j >= 1 && strconv.Itoa(j) == rest
 }
 
 // IsModelParameterName reports whether name is a parameter or derived-quantity name of the
@@ -215,7 +205,7 @@ func IsModelParameterName(name string) bool {
 		"Omega_sun", "Theta0_over_R0", "Theta0_plus_Vsun", "Oort_A", "Oort_B":
 		return true
 	}
-	if isNodeParam(name) {
+	if config.IsNodeName(name) {
 		return true
 	}
 	if arm, ok := strings.CutPrefix(name, "f_"); ok && arm != "" {

@@ -89,9 +89,9 @@ func (p *Posterior) Point(values map[string]float64) ([]float64, error) {
 	if p.fracReals() > 0 {
 		f := make([]float64, p.fracs.N)
 		for k := range f {
-			v, ok := values[fractionName(p.Spec, k)]
+			v, ok := values[p.Spec.FractionName(k)]
 			if !ok {
-				return nil, fmt.Errorf("fraction %s is missing", fractionName(p.Spec, k))
+				return nil, fmt.Errorf("fraction %s is missing", p.Spec.FractionName(k))
 			}
 			f[k] = v
 		}
@@ -120,11 +120,11 @@ func (p *Posterior) Values(x []float64) map[string]float64 {
 	if p.fracReals() > 0 {
 		f, _ := prior.FractionsFromReals(nil, x[len(p.free):])
 		for k := range n {
-			v[fractionName(p.Spec, k)] = f[k]
+			v[p.Spec.FractionName(k)] = f[k]
 		}
 	} else {
 		for k := range n {
-			v[fractionName(p.Spec, k)] = 1 / float64(n)
+			v[p.Spec.FractionName(k)] = 1 / float64(n)
 		}
 	}
 	return v

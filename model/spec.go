@@ -13,13 +13,10 @@ const deg = math.Pi / 180
 // ArmSpec is the part of a spiral arm that is a setting rather than a parameter: its name,
 // reference azimuth, azimuth range and whether it has a kink. Angles in radians.
 type ArmSpec struct {
-	Name                string
-	BetaRef             float64 // β_ref, rad
-	BetaStart, BetaEnd  float64 // the range over which the arm exists, rad
-	Kinked              bool
-	paramR, paramPitch  string
-	paramPitch2, paramK string
-	paramWidth          string
+	Name               string
+	BetaRef            float64 // β_ref, rad
+	BetaStart, BetaEnd float64 // the range over which the arm exists, rad
+	Kinked             bool
 }
 
 // Spec is the fixed part of the model: everything that is a setting rather than a sampled
@@ -91,14 +88,7 @@ func SpecFromConfig(c *config.Config) (*Spec, error) {
 
 // NewArmSpec returns the settings of an arm, with angles given in degrees.
 func NewArmSpec(name string, refDeg, startDeg, endDeg float64, kinked bool) ArmSpec {
-	return ArmSpec{
-		Name: name, BetaRef: refDeg * deg, BetaStart: startDeg * deg, BetaEnd: endDeg * deg, Kinked: kinked,
-		paramR:      name + config.SuffixRref,
-		paramPitch:  name + config.SuffixPitch,
-		paramPitch2: name + config.SuffixPitch2,
-		paramK:      name + config.SuffixKink,
-		paramWidth:  name + config.SuffixWidth,
-	}
+	return ArmSpec{Name: name, BetaRef: refDeg * deg, BetaStart: startDeg * deg, BetaEnd: endDeg * deg, Kinked: kinked}
 }
 
 // Validate checks the settings for values the likelihood cannot work with.
@@ -113,11 +103,7 @@ func (s *Spec) Validate() error {
 	case !(s.EdgeSoftening > 0):
 		return fmt.Errorf("model: arm-end softening %g rad: want a positive number", s.EdgeSoftening)
 	}
-	for i := range s.Arms {
-		a := &s.Arms[i]
-		if a.paramR == "" {
-			*a = NewArmSpec(a.Name, a.BetaRef/deg, a.BetaStart/deg, a.BetaEnd/deg, a.Kinked)
-		}
+	for _, a := range s.Arms {
 		if !(a.BetaEnd > a.BetaStart) {
 			return fmt.Errorf("model: arm %s: empty azimuth range", a.Name)
 		}
@@ -176,20 +162,20 @@ func (s *Spec) NewParams(values map[string]float64) (*Params, error) {
 	for _, a := range s.Arms {
 		arm := arms.Arm{Name: a.Name, BetaRef: a.BetaRef, BetaStart: a.BetaStart, BetaEnd: a.BetaEnd, Kinked: a.Kinked}
 		var pitch, width, pitch2, kink float64
-		if arm.RRef, err = get(a.paramR, 0, true); err != nil {
+		if arm.RRef, err = get(a.Name+config.SuffixRref, 0, true); err != nil {
 			return nil, err
 		}
-		if pitch, err = get(a.paramPitch, 0, true); err != nil {
+		if pitch, err = get(a.Name+config.SuffixPitch, 0, true); err != nil {
 			return nil, err
 		}
-		if width, err = get(a.paramWidth, 0, true); err != nil {
+		if width, err = get(a.Name+config.SuffixWidth, 0, true); err != nil {
 			return nil, err
 		}
 		if a.Kinked {
-			if pitch2, err = get(a.paramPitch2, 0, true); err != nil {
+			if pitch2, err = get(a.Name+config.SuffixPitch2, 0, true); err != nil {
 				return nil, err
 			}
-			if kink, err = get(a.paramK, 0, true); err != nil {
+			if kink, err = get(a.Name+config.SuffixKink, 0, true); err != nil {
 				return nil, err
 			}
 		}
@@ -204,7 +190,7 @@ func (s *Spec) NewParams(values map[string]float64) (*Params, error) {
 	p.frac = make([]float64, n)
 	sum := 0.0
 	for k := range n {
-		name := fractionName(s, k)
+		name := s.FractionName(k)
 		f, err := get(name, 1/float64(n), s.Galaxy)
 		if err != nil {
 			return nil, err
@@ -222,8 +208,9 @@ func (s *Spec) NewParams(values map[string]float64) (*Params, error) {
 	return p, nil
 }
 
-// fractionName is the parameter name of membership component k.
-func fractionName(s *Spec, k int) string {
+// FractionName returns the parameter name of membership component k: "f_field" or
+// "f_" + the arm's name.
+func (s *Spec) FractionName(k int) string {
 	if k == 0 {
 		return config.FieldFraction
 	}

@@ -334,7 +334,7 @@ func DefaultPrior(name string) prior.Prior {
 	case NameWidthSlope:
 		return prior.Fixed{Value: 0}
 	}
-	if isNodeName(name) {
+	if IsNodeName(name) {
 		return prior.Uniform{Min: 100, Max: 350}
 	}
 	return nil
@@ -369,7 +369,9 @@ const (
 	MinDefaultWalkers      = 32
 )
 
-func isNodeName(name string) bool {
+// IsNodeName reports whether name is the name of a nodes-curve speed, "Theta_j" with
+// j ≥ 1 written without leading zeros.
+func IsNodeName(name string) bool {
 	var j int
 	var rest string
 	n, _ := fmt.Sscanf(name, "Theta_%d%s", &j, &rest)

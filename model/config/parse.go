@@ -326,7 +326,7 @@ func (c *Config) unknownParam(key string, names []string) string {
 		if key == NameTheta0 {
 			return "with curve = \"nodes\", Theta0 is derived: give its prior under [derived_priors]"
 		}
-		if isNodeName(key) {
+		if IsNodeName(key) {
 			n := len(c.Rotation.NodeRadii)
 			return fmt.Sprintf("the nodes curve has %d node radii, so speeds Theta_1 … Theta_%d", n, n)
 		}

@@ -173,7 +173,7 @@ func unitOf(name string) string {
 		return "kpc/kpc"
 	}
 	switch {
-	case isNodeName(name):
+	case IsNodeName(name):
 		return "km/s"
 	case strings.HasSuffix(name, SuffixRref), strings.HasSuffix(name, SuffixWidth), strings.HasSuffix(name, SuffixRsun):
 		return "kpc"

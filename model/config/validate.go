@@ -116,7 +116,7 @@ func (c *Config) validateParams(ps *problems) {
 		switch {
 		case p.Name == NameR0 || p.Name == NameTheta0:
 			mostly(ps, key, p.Prior, 0, math.Inf(1), "positive")
-		case p.Name == NameSigmaVir || isNodeName(p.Name):
+		case p.Name == NameSigmaVir || IsNodeName(p.Name):
 			mostly(ps, key, p.Prior, 0, math.Inf(1), "non-negative")
 		}
 	}

@@ -1,7 +1,6 @@
 package fit
 
 import (
-	"context"
 	"os"
 	"testing"
 
@@ -28,14 +27,11 @@ func BenchmarkDemoLogDensity(b *testing.B) {
 		b.Fatal(err)
 	}
 	x := job.Start()
-	p, _ := job.Post.Params(x)
-	_ = p
-	if _, err := job.Like.BuildLayouts(nil, 0); err == nil {
-		b.Fatal("want error")
+	p, err := job.Post.Params(x)
+	if err != nil {
+		b.Fatal(err)
 	}
-	_ = context.Background()
-	ps, _ := job.Post.Params(x)
-	st, err := job.Like.BuildLayouts([]*model.Params{ps}, 0)
+	st, err := job.Like.BuildLayouts([]*model.Params{p}, 0)
 	if err != nil {
 		b.Fatal(err)
 	}

@@ -72,17 +72,10 @@ func (j *Job) Start() []float64 {
 		values[n] = start[i]
 	}
 	for k := range j.Spec.NumComponents() {
-		values[fractionName(j.Spec, k)] = 1 / float64(j.Spec.NumComponents())
+		values[j.Spec.FractionName(k)] = 1 / float64(j.Spec.NumComponents())
 	}
 	x, _ := j.Post.Point(values)
 	return x
-}
-
-func fractionName(s *model.Spec, k int) string {
-	if k == 0 {
-		return config.FieldFraction
-	}
-	return "f_" + s.Arms[k-1].Name
 }
 
 // Spreads returns the configured pilot spread of each sampled coordinate: the

@@ -203,12 +203,9 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 		if q < len(paramNames) {
 			s.MedianValues[name] = qt.Median
 		}
-		if tau, ok := mcmc.AutocorrTime(series[q], 5); ok || !math.IsNaN(tau) {
-			qt.Tau = tau
-			qt.ESS = float64(n*W) / tau
-		} else {
-			qt.Tau, qt.ESS = math.NaN(), math.NaN()
-		}
+		// τ is NaN for a constant or too short series, and so is the ESS then.
+		qt.Tau, _ = mcmc.AutocorrTime(series[q], 5)
+		qt.ESS = float64(n*W) / qt.Tau
 		if q < len(paramNames) {
 			if pr, ok := free[name]; ok || isFraction(name) {
 				qt.Prior = pr
@@ -278,7 +275,7 @@ func components(s *model.Spec) []string {
 func fractionNames(s *model.Spec) []string {
 	out := make([]string, s.NumComponents())
 	for m := range out {
-		out[m] = fractionName(s, m)
+		out[m] = s.FractionName(m)
 	}
 	return out
 }
