@@ -4,12 +4,12 @@ import (
 	_ "embed"
 	"flag"
 	"fmt"
-	"os"
 	"path/filepath"
 	"strconv"
 	"text/tabwriter"
 	"time"
 
+	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
 	"github.com/mirabilis-astro/mirabilis/model/config"
 	"github.com/mirabilis-astro/mirabilis/model/fit"
 	"github.com/mirabilis-astro/mirabilis/model/mock"
@@ -54,7 +54,7 @@ func runDemo(env *runEnv, args []string) error {
 	}
 	began := time.Now()
 	dir := env.flags.Lookup("out").Value.String()
-	if err := os.MkdirAll(dir, 0o755); err != nil {
+	if err := atomicfile.MkdirAll(dir); err != nil {
 		return err
 	}
 	galaxyPath := filepath.Join(dir, "galaxy.toml")
@@ -63,7 +63,7 @@ func runDemo(env *runEnv, args []string) error {
 		path string
 		data []byte
 	}{{galaxyPath, demoGalaxy}, {fitPath, demoFit}} {
-		if err := fit.WriteFileAtomic(f.path, f.data); err != nil {
+		if err := atomicfile.Write(f.path, f.data); err != nil {
 			return err
 		}
 	}
