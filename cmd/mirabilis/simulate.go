@@ -9,6 +9,7 @@ import (
 	"strings"
 
 	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
+	"github.com/mirabilis-astro/mirabilis/model/fit"
 	"github.com/mirabilis-astro/mirabilis/model/mock"
 )
 
