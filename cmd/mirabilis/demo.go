@@ -4,11 +4,11 @@ import (
 	_ "embed"
 	"flag"
 	"fmt"
-	"os"
 	"path/filepath"
 	"text/tabwriter"
 	"time"
 
+	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
 	"github.com/mirabilis-astro/mirabilis/model/config"
 	"github.com/mirabilis-astro/mirabilis/model/fit"
 	"github.com/mirabilis-astro/mirabilis/model/mock"
@@ -61,7 +61,7 @@ func runDemo(env *runEnv, o *demoOptions, args []string) error {
 		return usageErrorf("--threads and --steps must not be negative")
 	}
 	dir := o.dir
-	if err := os.MkdirAll(dir, 0o755); err != nil {
+	if err := atomicfile.MkdirAll(dir); err != nil {
 		return err
 	}
 	galaxyPath := filepath.Join(dir, "galaxy.toml")
@@ -70,7 +70,7 @@ func runDemo(env *runEnv, o *demoOptions, args []string) error {
 		path string
 		data []byte
 	}{{galaxyPath, demoGalaxy}, {fitPath, demoFit}} {
-		if err := fit.WriteFileAtomic(f.path, f.data); err != nil {
+		if err := atomicfile.Write(f.path, f.data); err != nil {
 			return err
 		}
 	}

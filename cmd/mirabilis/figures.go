@@ -4,7 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"os"
 	"path/filepath"
 	"slices"
 	"strings"
@@ -13,6 +12,7 @@ import (
 	"gonum.org/v1/plot/vg"
 
 	"github.com/mirabilis-astro/mirabilis/arms"
+	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
 	"github.com/mirabilis-astro/mirabilis/mcmc"
 	"github.com/mirabilis-astro/mirabilis/model"
 	"github.com/mirabilis-astro/mirabilis/model/fit"
@@ -48,7 +48,7 @@ func writeFigures(out *fit.Outcome) ([]string, error) {
 		return nil, fmt.Errorf("figures: %w", err)
 	}
 	dir := filepath.Join(out.Dir, figuresDir)
-	if err := os.MkdirAll(dir, 0o755); err != nil {
+	if err := atomicfile.MkdirAll(dir); err != nil {
 		return nil, fmt.Errorf("figures: %w", err)
 	}
 	var paths []string

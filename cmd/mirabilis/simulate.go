@@ -10,7 +10,7 @@ import (
 	"strconv"
 	"strings"
 
-	"github.com/mirabilis-astro/mirabilis/model/fit"
+	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
 	"github.com/mirabilis-astro/mirabilis/model/mock"
 )
 
@@ -160,17 +160,17 @@ func simulateTo(m *mock.Model, seed *uint64, out, truthPath string, env *runEnv)
 			return 0, err
 		}
 	} else {
-		if err := os.MkdirAll(filepath.Dir(out), 0o755); err != nil {
+		if err := atomicfile.MkdirAll(filepath.Dir(out)); err != nil {
 			return 0, err
 		}
-		if err := fit.WriteFileAtomic(out, data); err != nil {
+		if err := atomicfile.Write(out, data); err != nil {
 			return 0, err
 		}
 	}
 	if truthPath != "" {
 		var tb bytes.Buffer
 		mock.WriteTruth(&tb, truth)
-		if err := fit.WriteFileAtomic(truthPath, tb.Bytes()); err != nil {
+		if err := atomicfile.Write(truthPath, tb.Bytes()); err != nil {
 			return 0, err
 		}
 	}

@@ -11,6 +11,7 @@ import (
 	"strings"
 	"text/tabwriter"
 
+	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
 	"github.com/mirabilis-astro/mirabilis/mcmc"
 	"github.com/mirabilis-astro/mirabilis/model"
 )
@@ -515,14 +516,14 @@ func (s *Summary) SourcesTable() []byte {
 
 // Write writes the summary's files into a run directory, each atomically.
 func (s *Summary) Write(dir string) error {
-	if err := WriteFileAtomic(filepath.Join(dir, SummaryText), []byte(s.Text())); err != nil {
+	if err := atomicfile.Write(filepath.Join(dir, SummaryText), []byte(s.Text())); err != nil {
 		return err
 	}
-	if err := WriteFileAtomic(filepath.Join(dir, SourcesCSV), s.SourcesTable()); err != nil {
+	if err := atomicfile.Write(filepath.Join(dir, SourcesCSV), s.SourcesTable()); err != nil {
 		return err
 	}
 	if s.samples != nil {
-		if err := WriteFileAtomic(filepath.Join(dir, SamplesCSV), s.samples); err != nil {
+		if err := atomicfile.Write(filepath.Join(dir, SamplesCSV), s.samples); err != nil {
 			return err
 		}
 	}
