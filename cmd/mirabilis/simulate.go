@@ -11,6 +11,7 @@ import (
 	"strings"
 
 	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
+	"github.com/mirabilis-astro/mirabilis/model/fit"
 	"github.com/mirabilis-astro/mirabilis/model/mock"
 )
 
@@ -151,7 +152,11 @@ func relativeTo(dir, path string) string {
 
 // simulateTo draws the mock and writes the catalog (to stdout for "-") and the truth file.
 func simulateTo(m *mock.Model, seed *uint64, out, truthPath string, env *runEnv) (int, error) {
-	data, truth, err := m.Render(seed)
+	spec, err := fit.SpecFromConfig(m.Config)
+	if err != nil {
+		return 0, err
+	}
+	data, truth, err := m.Render(spec, seed)
 	if err != nil {
 		return 0, err
 	}

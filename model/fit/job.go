@@ -34,7 +34,7 @@ type Job struct {
 // Prepare checks that the catalog fits the configuration and builds the likelihood and
 // the posterior. The quadratures are not laid out yet (see Pilot).
 func Prepare(cfg *config.Config, cat *catalog.Catalog) (*Job, error) {
-	spec, err := model.SpecFromConfig(cfg)
+	spec, err := SpecFromConfig(cfg)
 	if err != nil {
 		return nil, err
 	}
@@ -46,7 +46,7 @@ func Prepare(cfg *config.Config, cat *catalog.Catalog) (*Job, error) {
 	if err != nil {
 		return nil, err
 	}
-	post, err := model.NewPosterior(cfg, L)
+	post, err := NewPosterior(cfg, L)
 	if err != nil {
 		return nil, err
 	}
