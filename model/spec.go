@@ -192,15 +192,15 @@ func armParamError(err error) error {
 	name := func(suffix string) string { return pe.Arm + suffix }
 	switch pe.Field {
 	case "RRef":
-		return fmt.Errorf("parameter %s = %g kpc: must be positive", name(config.SuffixRref), pe.Value)
+		return fmt.Errorf("parameter %s = %g kpc: must be positive", name(param.SuffixRref), pe.Value)
 	case "Width":
-		return fmt.Errorf("parameter %s = %g kpc: must be positive", name(config.SuffixWidth), pe.Value)
+		return fmt.Errorf("parameter %s = %g kpc: must be positive", name(param.SuffixWidth), pe.Value)
 	case "Pitch":
-		return fmt.Errorf("parameter %s = %g deg: must lie between -90 and 90", name(config.SuffixPitch), pe.Value/deg)
+		return fmt.Errorf("parameter %s = %g deg: must lie between -90 and 90", name(param.SuffixPitch), pe.Value/deg)
 	case "Pitch2":
-		return fmt.Errorf("parameter %s = %g deg: must lie between -90 and 90", name(config.SuffixPitch2), pe.Value/deg)
+		return fmt.Errorf("parameter %s = %g deg: must lie between -90 and 90", name(param.SuffixPitch2), pe.Value/deg)
 	case "BetaKink":
-		return fmt.Errorf("parameter %s = %g deg: must be a finite number", name(config.SuffixKink), pe.Value/deg)
+		return fmt.Errorf("parameter %s = %g deg: must be a finite number", name(param.SuffixKink), pe.Value/deg)
 	}
 	return fmt.Errorf("arm %s: %s", pe.Arm, pe.Reason)
 }
