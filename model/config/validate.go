@@ -102,7 +102,7 @@ func (c *Config) validateRotation(ps *problems) {
 }
 
 func (c *Config) validateParams(ps *problems) {
-	names := GlobalNames(c.Rotation.Curve, len(c.Rotation.NodeRadii))
+	names := model.GlobalNames(c.Rotation.Curve, len(c.Rotation.NodeRadii))
 	if len(c.Params) != len(names) {
 		ps.addf("params", "expected the %d parameters %s, got %d", len(names), strings.Join(names, ", "), len(c.Params))
 	}
@@ -260,7 +260,7 @@ func (c *Config) validateLikelihood(ps *problems) {
 			}
 		}
 		hint := ""
-		if strings.HasPrefix(name, "f_") {
+		if info, ok := param.Lookup(name, c.armNames()); ok && info.Kind == param.Fraction {
 			hint = " (the fractions start at the centre of the simplex)"
 		}
 		ps.addf(key, "%s is not a parameter of this model%s", name, hint)
