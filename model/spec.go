@@ -1,6 +1,7 @@
 package model
 
 import (
+	"errors"
 	"fmt"
 	"math"
 
@@ -164,7 +165,7 @@ func (s *Spec) NewParams(values map[string]float64) (*Params, error) {
 		p.Layout.Arms = append(p.Layout.Arms, arm)
 	}
 	if p.Density, err = arms.NewDensity(p.Layout); err != nil {
-		return nil, err
+		return nil, armParamError(err)
 	}
 	n := s.NumComponents()
 	p.LogFrac = make([]float64, n)
@@ -193,4 +194,28 @@ func (s *Spec) NewParams(values map[string]float64) (*Params, error) {
 // "f_" + the arm's name.
 func (s *Spec) FractionName(k int) string {
 	return param.FractionName(s.ComponentName(k))
+}
+
+// armParamError restates an invalid arm parameter reported by package arms in the terms of
+// the parameter names and their units (deg for angles), e.g. "parameter Corvid_width = -0.1
+// kpc: must be positive". Other errors are returned as they are.
+func armParamError(err error) error {
+	var pe *arms.ParamError
+	if !errors.As(err, &pe) || pe.Arm == "" {
+		return err
+	}
+	name := func(suffix string) string { return pe.Arm + suffix }
+	switch pe.Field {
+	case "RRef":
+		return fmt.Errorf("parameter %s = %g kpc: must be positive", name(param.SuffixRref), pe.Value)
+	case "Width":
+		return fmt.Errorf("parameter %s = %g kpc: must be positive", name(param.SuffixWidth), pe.Value)
+	case "Pitch":
+		return fmt.Errorf("parameter %s = %g deg: must lie between -90 and 90", name(param.SuffixPitch), pe.Value/deg)
+	case "Pitch2":
+		return fmt.Errorf("parameter %s = %g deg: must lie between -90 and 90", name(param.SuffixPitch2), pe.Value/deg)
+	case "BetaKink":
+		return fmt.Errorf("parameter %s = %g deg: must be a finite number", name(param.SuffixKink), pe.Value/deg)
+	}
+	return fmt.Errorf("arm %s: %s", pe.Arm, pe.Reason)
 }
