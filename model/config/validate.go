@@ -34,6 +34,7 @@ func (c *Config) validate(ps *problems) {
 	c.validateRotation(ps)
 	c.validateParams(ps)
 	c.validateArms(ps)
+	c.validateNames(ps)
 	c.validateMembership(ps)
 	c.validateLikelihood(ps)
 	c.validateSampler(ps)
@@ -211,6 +212,31 @@ func (c *Config) validateArms(ps *problems) {
 				ps.addf("params."+param.WidthSlope, "with distance_prior = \"parallax\" the arms are not fitted: width_slope must be fixed")
 			}
 		}
+	}
+}
+
+// validateNames checks that every parameter, fraction and derived quantity has a name of
+// its own: arms named "f" and "pitch" would both claim f_pitch.
+func (c *Config) validateNames(ps *problems) {
+	owner := map[string]string{}
+	claim := func(key string, names ...string) {
+		for _, n := range names {
+			if prev, dup := owner[n]; dup && prev != key {
+				if prev == "params" {
+					prev = "a global quantity"
+				}
+				ps.addf(key, "the arm's quantity %s has the name of a quantity of %s: rename the arm", n, prev)
+			}
+			owner[n] = key
+		}
+	}
+	claim("params", model.GlobalNames(c.Rotation.Curve, len(c.Rotation.NodeRadii))...)
+	claim("params", param.FieldFraction)
+	claim("params", param.DerivedNames(c.Rotation.Curve == model.CurveNodes, nil)...)
+	for i, a := range c.Arms {
+		key := fmt.Sprintf("arm[%d].name", i+1)
+		claim(key, param.ArmNames(a.Name, a.Kinked())...)
+		claim(key, param.FractionName(a.Name), a.Name+param.SuffixRsun)
 	}
 }
 

@@ -72,7 +72,7 @@ const NodePattern = "Theta_j"
 // of parameter files, chains and summaries.
 var table = []Entry{
 	{Name: R0, Unit: "kpc", Kind: Global, Description: "distance of the Sun from the Galactic centre"},
-	{Name: Theta0, Unit: "km/s", Kind: Global, Description: "circular speed at R0 (linear and power curves; derived for the nodes curve)"},
+	{Name: Theta0, Unit: "km/s", Kind: Global, Description: "circular speed at R0; derived for the nodes curve"},
 	{Name: DThetaDR, Unit: "km/s/kpc", Kind: Global, Description: "slope of the linear rotation curve"},
 	{Name: Alpha, Kind: Global, Description: "exponent of the power-law rotation curve"},
 	{Name: NodePattern, Unit: "km/s", Kind: Global, Description: "speed at the j-th node radius of the nodes curve", form: node},
@@ -96,7 +96,7 @@ var table = []Entry{
 	{Name: ThetaPlusVsun, Unit: "km/s", Kind: Derived, Description: "Theta0 + Vsun"},
 	{Name: OortA, Unit: "km/s/kpc", Kind: Derived, Description: "Oort's constant A at R0"},
 	{Name: OortB, Unit: "km/s/kpc", Kind: Derived, Description: "Oort's constant B at R0"},
-	{Name: "NAME" + SuffixRsun, Unit: "kpc", Kind: Derived, Description: "where arm NAME crosses the line from the centre through the Sun", form: perArm, key: SuffixRsun},
+	{Name: "NAME" + SuffixRsun, Unit: "kpc", Kind: Derived, Description: "where arm NAME crosses the Sun–centre line nearest the Sun", form: perArm, key: SuffixRsun},
 }
 
 // Table returns the rows of the parameter table, in the order of parameter files, chains
