@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"strconv"
+	"sync"
 
 	"github.com/mirabilis-astro/mirabilis/arms"
 	"github.com/mirabilis-astro/mirabilis/model/config"
@@ -22,6 +23,9 @@ type Posterior struct {
 	free    []int         // indices into names of the sampled parameters
 	fracs   prior.Dirichlet
 	derived []config.Param
+
+	ix     *indexed  // names resolved to slots, for LogDensity
+	states sync.Pool // *state
 }
 
 // NewPosterior returns the posterior of configuration c over the likelihood L.
@@ -35,6 +39,12 @@ func NewPosterior(c *config.Config, L *Likelihood) (*Posterior, error) {
 	if L.Spec.Galaxy {
 		p.fracs = c.Fractions()
 	}
+	ix, err := newIndexed(p)
+	if err != nil {
+		return nil, err
+	}
+	p.ix = ix
+	p.states.New = func() any { return &state{post: p} }
 	return p, nil
 }
 
@@ -170,7 +180,11 @@ func (p *Posterior) logPrior(x []float64) (float64, *Params) {
 
 // LogDensity returns the log posterior density at x, up to a constant: LogPrior plus the
 // total log-likelihood. It is −Inf outside the prior's support and safe for concurrent use.
-func (p *Posterior) LogDensity(x []float64) float64 {
+func (p *Posterior) LogDensity(x []float64) float64 { return p.logDensityIndexed(x, 1) }
+
+// logDensityReference is LogDensity computed the straightforward way (Values, NewParams,
+// LogL), the reference the indexed path is tested against.
+func (p *Posterior) logDensityReference(x []float64) float64 {
 	lp, params := p.logPrior(x)
 	if math.IsInf(lp, -1) {
 		return lp
@@ -181,11 +195,7 @@ func (p *Posterior) LogDensity(x []float64) float64 {
 // LogDensityParallel is LogDensity with the likelihood's sources shared among workers
 // goroutines; it returns the same value.
 func (p *Posterior) LogDensityParallel(x []float64, workers int) float64 {
-	lp, params := p.logPrior(x)
-	if math.IsInf(lp, -1) {
-		return lp
-	}
-	return lp + p.Like.LogLParallel(params, workers)
+	return p.logDensityIndexed(x, workers)
 }
 
 // Derived returns the derived quantities of a parameter set (MODEL §6): Omega_sun
