@@ -6,7 +6,7 @@ import (
 	"sync"
 
 	"github.com/mirabilis-astro/mirabilis/arms"
-	"github.com/mirabilis-astro/mirabilis/model/config"
+	"github.com/mirabilis-astro/mirabilis/model/param"
 	"github.com/mirabilis-astro/mirabilis/model/prior"
 )
 
@@ -114,29 +114,29 @@ func newIndexed(p *Posterior) (*indexed, error) {
 		return nil, err
 	}
 	ix.family = fam
-	ix.r0 = need(ParamR0)
+	ix.r0 = need(param.R0)
 	switch fam {
 	case CurveLinear:
-		ix.theta0, ix.shape = need(ParamTheta0), need(ParamSlope)
+		ix.theta0, ix.shape = need(param.Theta0), need(param.DThetaDR)
 	case CurvePower:
-		ix.theta0, ix.shape = need(ParamTheta0), need(ParamAlpha)
+		ix.theta0, ix.shape = need(param.Theta0), need(param.Alpha)
 	case CurveNodes:
 		for j := range spec.Curve.NodeRadii {
-			ix.speeds = append(ix.speeds, need(NodeParamName(j+1)))
+			ix.speeds = append(ix.speeds, need(param.NodeName(j+1)))
 		}
 	}
-	for k, name := range []string{ParamUsun, ParamVsun, ParamWsun, ParamUs, ParamVs, ParamWs} {
+	for k, name := range []string{param.Usun, param.Vsun, param.Wsun, param.Us, param.Vs, param.Ws} {
 		ix.uvw[k] = need(name)
 	}
-	ix.sigmaVir = need(config.NameSigmaVir)
+	ix.sigmaVir = need(param.SigmaVir)
 	ix.widthSlope = slot{idx: -1}
-	if s, ok := where[config.NameWidthSlope]; ok {
+	if s, ok := where[param.WidthSlope]; ok {
 		ix.widthSlope = s
 	}
 	for _, a := range spec.Arms {
-		as := armSlots{rref: need(a.Name + config.SuffixRref), pitch: need(a.Name + config.SuffixPitch), width: need(a.Name + config.SuffixWidth)}
+		as := armSlots{rref: need(a.Name + param.SuffixRref), pitch: need(a.Name + param.SuffixPitch), width: need(a.Name + param.SuffixWidth)}
 		if a.Kinked {
-			as.pitch2, as.kink = need(a.Name+config.SuffixPitch2), need(a.Name+config.SuffixKink)
+			as.pitch2, as.kink = need(a.Name+param.SuffixPitch2), need(a.Name+param.SuffixKink)
 		}
 		ix.arms = append(ix.arms, as)
 	}
@@ -149,22 +149,22 @@ func newIndexed(p *Posterior) (*indexed, error) {
 	for _, dp := range p.derived {
 		d := derivedPrior{prior: dp.Prior}
 		switch dp.Name {
-		case config.NameOmegaSun:
+		case param.OmegaSun:
 			d.kind = derivedOmegaSun
-		case config.NameThetaOverR0:
+		case param.ThetaOverR0:
 			d.kind = derivedThetaOverR0
-		case config.NameThetaPlusVsun:
+		case param.ThetaPlusVsun:
 			d.kind = derivedThetaPlusVsun
-		case config.NameOortA:
+		case param.OortA:
 			d.kind = derivedOortA
-		case config.NameOortB:
+		case param.OortB:
 			d.kind = derivedOortB
-		case config.NameTheta0:
+		case param.Theta0:
 			d.kind = derivedTheta0
 		default:
 			d.kind, d.arm = derivedArmRsun, -1
 			for k, a := range spec.Arms {
-				if dp.Name == a.Name+config.SuffixRsun {
+				if dp.Name == a.Name+param.SuffixRsun {
 					d.arm = k
 				}
 			}

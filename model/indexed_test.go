@@ -7,7 +7,7 @@ import (
 	"strings"
 	"testing"
 
-	"github.com/mirabilis-astro/mirabilis/model/config"
+	"github.com/mirabilis-astro/mirabilis/model/param"
 	"github.com/mirabilis-astro/mirabilis/model/prior"
 )
 
@@ -15,7 +15,7 @@ import (
 // straightforward one.
 type indexedCase struct {
 	name      string
-	errors    string
+	errors    ErrorKind
 	galaxy    bool
 	multiTurn bool // the first arm winds more than once round the centre
 	curve     CurveFamily
@@ -72,8 +72,8 @@ func indexedSources(n int, seed uint64) []Source {
 func indexedPosterior(t testing.TB, c indexedCase, L *Likelihood) *Posterior {
 	vals := testValues()
 	if c.curve == CurvePower {
-		delete(vals, ParamSlope)
-		vals[ParamAlpha] = 0.05
+		delete(vals, param.DThetaDR)
+		vals[param.Alpha] = 0.05
 	}
 	var names []string
 	for name := range vals {
@@ -86,10 +86,10 @@ func indexedPosterior(t testing.TB, c indexedCase, L *Likelihood) *Posterior {
 	for i, name := range names {
 		v := vals[name]
 		var pr prior.Prior = prior.Uniform{Min: v - 0.3*math.Abs(v) - 1, Max: v + 0.3*math.Abs(v) + 1}
-		if strings.HasSuffix(name, config.SuffixWidth) || strings.HasSuffix(name, config.SuffixRref) || name == config.NameSigmaVir {
+		if strings.HasSuffix(name, param.SuffixWidth) || strings.HasSuffix(name, param.SuffixRref) || name == param.SigmaVir {
 			pr = prior.Uniform{Min: 0.5 * v, Max: 1.5 * v}
 		}
-		if name == config.NameWidthSlope {
+		if name == param.WidthSlope {
 			pr = prior.Fixed{Value: 0.01}
 		}
 		p.priors = append(p.priors, pr)
@@ -100,9 +100,9 @@ func indexedPosterior(t testing.TB, c indexedCase, L *Likelihood) *Posterior {
 	if L.Spec.Galaxy {
 		p.fracs = prior.Dirichlet{N: L.Spec.NumComponents(), Alpha: 1}
 	}
-	p.derived = []config.Param{
-		{Name: config.NameOmegaSun, Prior: prior.Normal{Mu: 30, Sigma: 2}},
-		{Name: "Corvid" + config.SuffixRsun, Prior: prior.Normal{Mu: 5, Sigma: 3}},
+	p.derived = []NamedPrior{
+		{Name: param.OmegaSun, Prior: prior.Normal{Mu: 30, Sigma: 2}},
+		{Name: "Corvid" + param.SuffixRsun, Prior: prior.Normal{Mu: 5, Sigma: 3}},
 	}
 	ix, err := newIndexed(p)
 	if err != nil {
@@ -205,10 +205,10 @@ func TestIndexedPerSource(t *testing.T) {
 func pointValues(c indexedCase) map[string]float64 {
 	v := testValues()
 	if c.curve == CurvePower {
-		delete(v, ParamSlope)
-		v[ParamAlpha] = 0.05
+		delete(v, param.DThetaDR)
+		v[param.Alpha] = 0.05
 	}
-	v[config.NameWidthSlope] = 0.01
+	v[param.WidthSlope] = 0.01
 	return v
 }
 
