@@ -188,12 +188,12 @@ func TestParseSource(t *testing.T) {
 		t.Errorf("parsed %+v", s)
 	}
 	for in, want := range map[string]string{
-		"l=30,b=0,parallax=abc,parallax_err=0.1": "field parallax",
+		"l=30,b=0,parallax=abc,parallax_err=0.1":        "field parallax",
 		"l=30,b=0,parallax=0.1,parallax_err=0.1,frob=2": "frob",
-		"l=30,b=0,parallax,parallax_err=0.1": `field "parallax" is not KEY=VALUE`,
-		"l=30,b=0,parallax=0.1,parallax=0.2": "field parallax is given twice",
-		"l=30,b=0,parallax=0.1": "parallax_err",
-		"": "no fields",
+		"l=30,b=0,parallax,parallax_err=0.1":            `field "parallax" is not KEY=VALUE`,
+		"l=30,b=0,parallax=0.1,parallax=0.2":            "field parallax is given twice",
+		"l=30,b=0,parallax=0.1":                         "parallax_err",
+		"":                                              "no fields",
 	} {
 		_, err := ParseSource(in)
 		if err == nil || !strings.Contains(err.Error(), want) {
