@@ -3,10 +3,11 @@ package model
 import (
 	"fmt"
 	"math"
+	"slices"
 	"strconv"
 
 	"github.com/mirabilis-astro/mirabilis/arms"
-	"github.com/mirabilis-astro/mirabilis/model/config"
+	"github.com/mirabilis-astro/mirabilis/model/param"
 	"github.com/mirabilis-astro/mirabilis/model/prior"
 )
 
@@ -21,19 +22,51 @@ type Posterior struct {
 	priors  []prior.Prior // aligned with names
 	free    []int         // indices into names of the sampled parameters
 	fracs   prior.Dirichlet
-	derived []config.Param
+	derived []NamedPrior
 }
 
-// NewPosterior returns the posterior of configuration c over the likelihood L.
-func NewPosterior(c *config.Config, L *Likelihood) (*Posterior, error) {
-	p := &Posterior{Spec: L.Spec, Like: L, names: c.ParamNames(), priors: c.Priors(), derived: c.DerivedPriors}
-	for i, pr := range p.priors {
-		if !pr.IsFixed() {
+// NamedPrior is the prior of one parameter or derived quantity, by name.
+type NamedPrior struct {
+	Name  string
+	Prior prior.Prior
+}
+
+// Priors are the priors of a posterior.
+type Priors struct {
+	// Params are every parameter (fixed and free) with its prior, in the order of the
+	// sampled coordinates; the membership fractions are not among them.
+	Params []NamedPrior
+	// Derived are priors on derived quantities (see Derived), if any.
+	Derived []NamedPrior
+	// Fractions is the Dirichlet prior of the membership fractions, field first; it is used
+	// in the galaxy mode only.
+	Fractions prior.Dirichlet
+}
+
+// NewPosterior returns the posterior with priors pr over the likelihood L.
+func NewPosterior(pr Priors, L *Likelihood) (*Posterior, error) {
+	p := &Posterior{Spec: L.Spec, Like: L, derived: append([]NamedPrior(nil), pr.Derived...)}
+	known := DerivedNames(L.Spec)
+	for _, d := range p.derived {
+		if d.Prior == nil || !slices.Contains(known, d.Name) {
+			return nil, fmt.Errorf("model: prior on %q: not a derived quantity of the model", d.Name)
+		}
+	}
+	for i, np := range pr.Params {
+		if np.Prior == nil {
+			return nil, fmt.Errorf("model: parameter %s has no prior", np.Name)
+		}
+		p.names = append(p.names, np.Name)
+		p.priors = append(p.priors, np.Prior)
+		if !np.Prior.IsFixed() {
 			p.free = append(p.free, i)
 		}
 	}
 	if L.Spec.Galaxy {
-		p.fracs = c.Fractions()
+		if pr.Fractions.N != L.Spec.NumComponents() {
+			return nil, fmt.Errorf("model: Dirichlet prior over %d fractions for %d components", pr.Fractions.N, L.Spec.NumComponents())
+		}
+		p.fracs = pr.Fractions
 	}
 	return p, nil
 }
@@ -197,12 +230,12 @@ func Derived(p *Params, spec *Spec) map[string]float64 {
 	m := p.Motion
 	A, B := m.Oort()
 	out := map[string]float64{
-		config.NameOmegaSun:      m.OmegaSun(),
-		config.NameThetaOverR0:   m.Theta0() / m.R0(),
-		config.NameThetaPlusVsun: m.Theta0() + m.Sun().V,
-		config.NameOortA:         A,
-		config.NameOortB:         B,
-		config.NameTheta0:        m.Theta0(),
+		param.OmegaSun:      m.OmegaSun(),
+		param.ThetaOverR0:   m.Theta0() / m.R0(),
+		param.ThetaPlusVsun: m.Theta0() + m.Sun().V,
+		param.OortA:         A,
+		param.OortB:         B,
+		param.Theta0:        m.Theta0(),
 	}
 	var cross []arms.Crossing
 	for _, a := range p.Layout.Arms {
@@ -211,16 +244,16 @@ func Derived(p *Params, spec *Spec) map[string]float64 {
 		if len(cross) > 0 {
 			v = cross[0].R
 		}
-		out[a.Name+config.SuffixRsun] = v
+		out[a.Name+param.SuffixRsun] = v
 	}
 	return out
 }
 
 // DerivedNames lists the names Derived returns, in a fixed order.
 func DerivedNames(spec *Spec) []string {
-	names := []string{config.NameOmegaSun, config.NameThetaOverR0, config.NameThetaPlusVsun, config.NameOortA, config.NameOortB, config.NameTheta0}
+	names := []string{param.OmegaSun, param.ThetaOverR0, param.ThetaPlusVsun, param.OortA, param.OortB, param.Theta0}
 	for _, a := range spec.Arms {
-		names = append(names, a.Name+config.SuffixRsun)
+		names = append(names, a.Name+param.SuffixRsun)
 	}
 	return names
 }

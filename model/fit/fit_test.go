@@ -59,7 +59,11 @@ func setUp(t *testing.T, n int, extra string) (string, *mock.Model) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	data, _, err := m.Render(nil)
+	spec, err := SpecFromConfig(m.Config)
+	if err != nil {
+		t.Fatal(err)
+	}
+	data, _, err := m.Render(spec, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -258,7 +262,7 @@ func TestRecovery(t *testing.T) {
 		}
 	}
 	// Membership of the arm sources well clear of the other arms.
-	_, truth, err := m.Draw(nil)
+	_, truth, err := m.Draw(out.Job.Spec, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
