@@ -477,24 +477,6 @@ func (L *Likelihood) InnerProbability(i int, p *Params, rInner float64) float64 
 	return in
 }
 
-// MassQuantile returns the distance below which the fraction q of the node masses lies,
-// interpolating linearly in ln d between nodes.
-func MassQuantile(d, mass []float64, q float64) float64 {
-	var cum float64
-	for j, m := range mass {
-		next := cum + m
-		if next >= q && m > 0 {
-			if j == 0 {
-				return d[0]
-			}
-			a := (q - cum) / m
-			return math.Exp((1-a)*math.Log(d[j-1]) + a*math.Log(d[j]))
-		}
-		cum = next
-	}
-	return d[len(d)-1]
-}
-
 // Parallel runs f(i) for i in [0, n) on workers goroutines (GOMAXPROCS when ≤ 0). Results
 // must be written to per-index slots, so that the outcome does not depend on the count.
 func Parallel(n, workers int, f func(i int)) {
