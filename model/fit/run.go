@@ -169,6 +169,11 @@ func Fit(ctx context.Context, cfg *config.Config, opts Options) (*Outcome, error
 	if err != nil {
 		return nil, err
 	}
+	for _, w := range cat.Warnings {
+		if opts.Log != nil {
+			fmt.Fprintf(opts.Log, "warning: %s\n", w)
+		}
+	}
 	catHash, err := FileSHA256(cfg.Catalog)
 	if err != nil {
 		return nil, err
