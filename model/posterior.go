@@ -4,7 +4,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
-	"strconv"
+	"sync"
 
 	"github.com/mirabilis-astro/mirabilis/arms"
 	"github.com/mirabilis-astro/mirabilis/model/param"
@@ -23,6 +23,9 @@ type Posterior struct {
 	free    []int         // indices into names of the sampled parameters
 	fracs   prior.Dirichlet
 	derived []NamedPrior
+
+	ix     *indexed  // names resolved to slots, for LogDensity
+	states sync.Pool // *state
 }
 
 // NamedPrior is the prior of one parameter or derived quantity, by name.
@@ -68,6 +71,12 @@ func NewPosterior(pr Priors, L *Likelihood) (*Posterior, error) {
 		}
 		p.fracs = pr.Fractions
 	}
+	ix, err := newIndexed(p)
+	if err != nil {
+		return nil, err
+	}
+	p.ix = ix
+	p.states.New = func() any { return &state{post: p} }
 	return p, nil
 }
 
@@ -89,7 +98,7 @@ func (p *Posterior) Names() []string {
 		out = append(out, p.names[i])
 	}
 	for k := 1; k <= p.fracReals(); k++ {
-		out = append(out, "stick_"+strconv.Itoa(k))
+		out = append(out, param.StickName(k))
 	}
 	return out
 }
@@ -203,7 +212,11 @@ func (p *Posterior) logPrior(x []float64) (float64, *Params) {
 
 // LogDensity returns the log posterior density at x, up to a constant: LogPrior plus the
 // total log-likelihood. It is −Inf outside the prior's support and safe for concurrent use.
-func (p *Posterior) LogDensity(x []float64) float64 {
+func (p *Posterior) LogDensity(x []float64) float64 { return p.logDensityIndexed(x, 1) }
+
+// logDensityReference is LogDensity computed the straightforward way (Values, NewParams,
+// LogL), the reference the indexed path is tested against.
+func (p *Posterior) logDensityReference(x []float64) float64 {
 	lp, params := p.logPrior(x)
 	if math.IsInf(lp, -1) {
 		return lp
@@ -214,18 +227,14 @@ func (p *Posterior) LogDensity(x []float64) float64 {
 // LogDensityParallel is LogDensity with the likelihood's sources shared among workers
 // goroutines; it returns the same value.
 func (p *Posterior) LogDensityParallel(x []float64, workers int) float64 {
-	lp, params := p.logPrior(x)
-	if math.IsInf(lp, -1) {
-		return lp
-	}
-	return lp + p.Like.LogLParallel(params, workers)
+	return p.logDensityIndexed(x, workers)
 }
 
-// Derived returns the derived quantities of a parameter set (MODEL §6): Omega_sun
-// (Θ0 + V⊙)/R0, Theta0_over_R0, Theta0_plus_Vsun, Oort_A and Oort_B at R0 (km/s/kpc or
-// km/s), Theta0 (useful for the nodes curve, where it is derived) and NAME_Rsun, the radius
-// (kpc) where arm NAME crosses the Sun–centre line nearest the Sun (NaN if its azimuth range
-// never reaches that line).
+// Derived returns the derived quantities of a parameter set (MODEL §6), keyed by the names
+// DerivedNames gives: Omega_sun (Θ0 + V⊙)/R0, Theta0_over_R0, Theta0_plus_Vsun, Oort_A and
+// Oort_B at R0 (km/s/kpc or km/s), Theta0 for the nodes curve (where it is derived, not a
+// parameter) and NAME_Rsun, the radius (kpc) where arm NAME crosses the Sun–centre line
+// nearest the Sun (NaN if its azimuth range never reaches that line).
 func Derived(p *Params, spec *Spec) map[string]float64 {
 	m := p.Motion
 	A, B := m.Oort()
@@ -235,7 +244,9 @@ func Derived(p *Params, spec *Spec) map[string]float64 {
 		param.ThetaPlusVsun: m.Theta0() + m.Sun().V,
 		param.OortA:         A,
 		param.OortB:         B,
-		param.Theta0:        m.Theta0(),
+	}
+	if spec.thetaDerived() {
+		out[param.Theta0] = m.Theta0()
 	}
 	var cross []arms.Crossing
 	for _, a := range p.Layout.Arms {
@@ -249,11 +260,7 @@ func Derived(p *Params, spec *Spec) map[string]float64 {
 	return out
 }
 
-// DerivedNames lists the names Derived returns, in a fixed order.
+// DerivedNames lists the names Derived returns, in the order of the parameter table.
 func DerivedNames(spec *Spec) []string {
-	names := []string{param.OmegaSun, param.ThetaOverR0, param.ThetaPlusVsun, param.OortA, param.OortB, param.Theta0}
-	for _, a := range spec.Arms {
-		names = append(names, a.Name+param.SuffixRsun)
-	}
-	return names
+	return param.DerivedNames(spec.thetaDerived(), spec.ArmNames())
 }
