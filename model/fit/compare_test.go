@@ -162,23 +162,6 @@ func TestCompareFindsKink(t *testing.T) {
 		} else if z > 2 {
 			t.Errorf("straight mock: %s ahead by %.1f ± %.1f, more than 2 SE", cmp.Models[0].Label, -second.Diff.Value, second.Diff.SE)
 		}
-		if os.Getenv("MIRABILIS_LOO_POINTWISE") != "" && !c.kinked {
-			// Writes the matrices testdata/loo/loo_reference.R reads (fit_a, fit_b).
-			for i, m := range []*Run{straight, kinked} {
-				for _, mr := range cmp.Models {
-					if mr.Runs[0] == m.Dir {
-						var buf bytes.Buffer
-						if err := mr.Pointwise.WriteCSV(&buf); err != nil {
-							t.Fatal(err)
-						}
-						name := filepath.Join(os.Getenv("MIRABILIS_LOO_POINTWISE"), []string{"fit_a.csv", "fit_b.csv"}[i])
-						if err := os.WriteFile(name, buf.Bytes(), 0o644); err != nil {
-							t.Fatal(err)
-						}
-					}
-				}
-			}
-		}
 	}
 }
 
