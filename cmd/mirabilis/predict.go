@@ -51,11 +51,11 @@ type predictOptions struct {
 }
 
 var paramsHelp = `A parameter file is a JSON object of parameter values keyed by name, for
-example
+example the true values of the demo galaxy ("mirabilis demo")
 
-	{"R0": 8.15, "Theta0": 236, "dTheta_dR": -0.5,
-	 "Usun": 10.6, "Vsun": 10.7, "Wsun": 7.6, "Us": 0, "Vs": -4, "Ws": 0,
-	 "sigma_vir": 5}
+	{"R0": 8.25, "Theta0": 232, "dTheta_dR": -0.6,
+	 "Usun": 10.5, "Vsun": 12.5, "Wsun": 7.5, "Us": 2, "Vs": -3, "Ws": 0,
+	 "sigma_vir": 6}
 
 It is read by "mirabilis predict" and "mirabilis eval". The names are those of the
 run configuration, the chain file and the summaries:
