@@ -7,6 +7,7 @@ import (
 	"strings"
 	"sync"
 
+	"github.com/mirabilis-astro/mirabilis/internal/spelling"
 	"github.com/mirabilis-astro/mirabilis/model/catalog"
 	"github.com/mirabilis-astro/mirabilis/model/quad"
 )
@@ -33,13 +34,25 @@ type Source struct {
 	Label int
 }
 
-// NewSources prepares the sources of a catalog for the likelihood of spec. A source whose
-// arm label names no arm of the model is an error naming the catalog line.
+// NewSources prepares the sources of a catalog for the likelihood of spec. Arm labels are
+// matched to the model's arm names without regard to case, as column names are (an exact
+// match wins where arms' names differ only in case). A source whose arm label names no arm
+// of the model is an error naming the catalog line and the nearest arm name.
 func NewSources(cat *catalog.Catalog, spec *Spec) ([]Source, error) {
 	index := map[string]int{}
+	folded := map[string]int{} // lower-case name → arm, -1 where two arms share it
+	var names []string
 	for k, a := range spec.Arms {
 		index[a.Name] = k + 1
+		names = append(names, a.Name)
+		f := strings.ToLower(a.Name)
+		if _, dup := folded[f]; dup {
+			folded[f] = -1
+		} else {
+			folded[f] = k + 1
+		}
 	}
+
 	out := make([]Source, len(cat.Sources))
 	var bad []string
 	for i, cs := range cat.Sources {
@@ -57,7 +70,15 @@ func NewSources(cat *catalog.Catalog, spec *Spec) ([]Source, error) {
 		if cs.Arm != "" && cs.Arm != "?" {
 			k, ok := index[cs.Arm]
 			if !ok {
-				bad = append(bad, fmt.Sprintf("%s:%d: source %s: arm %q is not an arm of the model", cat.Path, cs.Line, cs.Name, cs.Arm))
+				k = folded[strings.ToLower(cs.Arm)]
+				ok = k > 0
+			}
+			if !ok {
+				hint := ""
+				if s := spelling.Nearest(cs.Arm, names); s != "" {
+					hint = fmt.Sprintf(" (did you mean %s?)", s)
+				}
+				bad = append(bad, fmt.Sprintf("%s:%d: source %s: arm %q is not an arm of the model%s", cat.Path, cs.Line, cs.Name, cs.Arm, hint))
 			}
 			s.Label = k
 		}
@@ -207,17 +228,30 @@ func (s *Source) LogIntegrand(spec *Spec, p *Params, u float64, comp []float64) 
 
 // grid is a source's fixed quadrature: its layout, the distances of its nodes and the terms
 // of the log-integrand there that do not depend on the parameters.
+//
+// The fast path reads the rest, one contiguous array per quantity: the quadrature weights
+// w, the node's place in the plane relative to the Sun (px, py) = d cos b (cos l, sin l)
+// (kpc), and 1/(k d) (mas/yr per km/s).
 type grid struct {
 	layout *quad.Layout
 	d      []float64
 	base   []float64
+
+	w, px, py, invKD []float64
 }
 
 func newGrid(spec *Spec, s *Source, l *quad.Layout) *grid {
-	g := &grid{layout: l, d: l.Nodes(), base: make([]float64, l.Len())}
+	n := l.Len()
+	flat := make([]float64, 4*n)
+	g := &grid{layout: l, d: l.Nodes(), base: flat[:n:n], w: l.Weights(),
+		px: flat[n : 2*n : 2*n], py: flat[2*n : 3*n : 3*n], invKD: flat[3*n : 4*n : 4*n]}
 	for j, u := range g.d {
-		g.d[j] = math.Exp(u)
-		g.base[j] = s.logBase(spec, g.d[j])
+		d := math.Exp(u)
+		g.d[j] = d
+		g.base[j] = s.logBase(spec, d)
+		dc := d * s.Sight.CosB
+		g.px[j], g.py[j] = dc*s.Sight.CosL, dc*s.Sight.SinL
+		g.invKD[j] = 1 / (KmsPerKpcMasYr * d)
 	}
 	return g
 }

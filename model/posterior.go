@@ -5,6 +5,7 @@ import (
 	"math"
 	"slices"
 	"strconv"
+	"sync"
 
 	"github.com/mirabilis-astro/mirabilis/arms"
 	"github.com/mirabilis-astro/mirabilis/model/param"
@@ -23,6 +24,9 @@ type Posterior struct {
 	free    []int         // indices into names of the sampled parameters
 	fracs   prior.Dirichlet
 	derived []NamedPrior
+
+	ix     *indexed  // names resolved to slots, for LogDensity
+	states sync.Pool // *state
 }
 
 // NamedPrior is the prior of one parameter or derived quantity, by name.
@@ -68,6 +72,12 @@ func NewPosterior(pr Priors, L *Likelihood) (*Posterior, error) {
 		}
 		p.fracs = pr.Fractions
 	}
+	ix, err := newIndexed(p)
+	if err != nil {
+		return nil, err
+	}
+	p.ix = ix
+	p.states.New = func() any { return &state{post: p} }
 	return p, nil
 }
 
@@ -203,7 +213,11 @@ func (p *Posterior) logPrior(x []float64) (float64, *Params) {
 
 // LogDensity returns the log posterior density at x, up to a constant: LogPrior plus the
 // total log-likelihood. It is −Inf outside the prior's support and safe for concurrent use.
-func (p *Posterior) LogDensity(x []float64) float64 {
+func (p *Posterior) LogDensity(x []float64) float64 { return p.logDensityIndexed(x, 1) }
+
+// logDensityReference is LogDensity computed the straightforward way (Values, NewParams,
+// LogL), the reference the indexed path is tested against.
+func (p *Posterior) logDensityReference(x []float64) float64 {
 	lp, params := p.logPrior(x)
 	if math.IsInf(lp, -1) {
 		return lp
@@ -214,11 +228,7 @@ func (p *Posterior) LogDensity(x []float64) float64 {
 // LogDensityParallel is LogDensity with the likelihood's sources shared among workers
 // goroutines; it returns the same value.
 func (p *Posterior) LogDensityParallel(x []float64, workers int) float64 {
-	lp, params := p.logPrior(x)
-	if math.IsInf(lp, -1) {
-		return lp
-	}
-	return lp + p.Like.LogLParallel(params, workers)
+	return p.logDensityIndexed(x, workers)
 }
 
 // Derived returns the derived quantities of a parameter set (MODEL §6): Omega_sun

@@ -58,15 +58,24 @@ type LinearCurve struct {
 // NewLinearCurve returns the linear rotation curve with Θ0 = theta0 (km/s) at R0 = r0 (kpc),
 // slope dΘ/dR (km/s/kpc) and core radius rCore (kpc). It needs r0 > rCore > 0.
 func NewLinearCurve(r0, theta0, slope, rCore float64) (*LinearCurve, error) {
+	c := new(LinearCurve)
+	if err := c.set(r0, theta0, slope, rCore); err != nil {
+		return nil, err
+	}
+	return c, nil
+}
+
+// set makes c the curve NewLinearCurve describes, in place.
+func (c *LinearCurve) set(r0, theta0, slope, rCore float64) error {
 	if err := checkCurveRadii(r0, rCore); err != nil {
-		return nil, fmt.Errorf("linear rotation curve: %w", err)
+		return fmt.Errorf("linear rotation curve: %w", err)
 	}
 	if !isFiniteNumber(theta0) || !isFiniteNumber(slope) {
-		return nil, fmt.Errorf("linear rotation curve: Theta0 = %v and dTheta_dR = %v must be finite", theta0, slope)
+		return fmt.Errorf("linear rotation curve: Theta0 = %v and dTheta_dR = %v must be finite", theta0, slope)
 	}
-	c := &LinearCurve{r0: r0, theta0: theta0, slope: slope, rCore: rCore}
+	*c = LinearCurve{r0: r0, theta0: theta0, slope: slope, rCore: rCore}
 	c.coreRate = (theta0 + slope*(rCore-r0)) / rCore
-	return c, nil
+	return nil
 }
 
 // Theta returns Θ(R) in km/s.
@@ -101,16 +110,25 @@ type PowerCurve struct {
 // NewPowerCurve returns the power-law rotation curve with Θ0 = theta0 (km/s) at R0 = r0
 // (kpc), exponent alpha and core radius rCore (kpc). It needs r0 > rCore > 0.
 func NewPowerCurve(r0, theta0, alpha, rCore float64) (*PowerCurve, error) {
+	c := new(PowerCurve)
+	if err := c.set(r0, theta0, alpha, rCore); err != nil {
+		return nil, err
+	}
+	return c, nil
+}
+
+// set makes c the curve NewPowerCurve describes, in place.
+func (c *PowerCurve) set(r0, theta0, alpha, rCore float64) error {
 	if err := checkCurveRadii(r0, rCore); err != nil {
-		return nil, fmt.Errorf("power rotation curve: %w", err)
+		return fmt.Errorf("power rotation curve: %w", err)
 	}
 	if !isFiniteNumber(theta0) || !isFiniteNumber(alpha) {
-		return nil, fmt.Errorf("power rotation curve: Theta0 = %v and alpha = %v must be finite", theta0, alpha)
+		return fmt.Errorf("power rotation curve: Theta0 = %v and alpha = %v must be finite", theta0, alpha)
 	}
-	c := &PowerCurve{r0: r0, theta0: theta0, alpha: alpha, rCore: rCore}
+	*c = PowerCurve{r0: r0, theta0: theta0, alpha: alpha, rCore: rCore}
 	c.scale = theta0 * math.Exp(-alpha*math.Log(r0))
 	c.coreRate = c.outer(rCore) / rCore
-	return c, nil
+	return nil
 }
 
 // outer is the curve without its core; exp and log are several times faster than math.Pow.

@@ -126,6 +126,9 @@ func runEval(env *runEnv, o *evalOptions, args []string) error {
 	if err != nil {
 		return err
 	}
+	for _, w := range cat.Warnings {
+		fmt.Fprintf(env.stderr, "warning: %s\n", w)
+	}
 	job, err := fit.Prepare(cfg, cat)
 	if err != nil {
 		return err

@@ -227,7 +227,7 @@ func (in *figureInput) posteriorMotions(n int) []*model.Motion {
 	rows, w := c.Len()-burn, c.Walkers()
 	n = min(n, rows*w)
 	for i := range n {
-		add(in.job.Post.Values(c.X[burn+i*rows/n][i%w]))
+		add(in.job.Post.Values(c.Position(burn+i*rows/n, i%w, nil)))
 	}
 	return out
 }
@@ -459,8 +459,10 @@ func paramLabel(name string) string {
 // columns cols.
 func samplesAfterBurn(c *mcmc.Chain, burn int, cols []int) [][]float64 {
 	var out [][]float64
+	var x []float64
 	for t := max(burn, 0); t < c.Len(); t++ {
-		for _, x := range c.X[t] {
+		for k := range c.Walkers() {
+			x = c.Position(t, k, x)
 			row := make([]float64, len(cols))
 			for k, j := range cols {
 				row[k] = x[j]
@@ -584,8 +586,9 @@ func traceFigure(in *figureInput) (plots.Figure, vg.Length, vg.Length, error) {
 	trace := make([][][]float64, c.Len())
 	reals := make([]float64, len(sticks))
 	for t := range trace {
-		trace[t] = make([][]float64, len(c.X[t]))
-		for w, x := range c.X[t] {
+		trace[t] = make([][]float64, c.Walkers())
+		for w := range trace[t] {
+			x := c.Position(t, w, nil)
 			row := make([]float64, 0, len(names))
 			for _, j := range keep {
 				row = append(row, x[j])

@@ -37,7 +37,8 @@ Everything goes to the run directory (the configuration's output, or --out):
                   given to fit as it is
   run.json        the state of the run and the hashes of its configuration and catalog
   pilot.json      the maximum a posteriori point and the quadrature statistics
-  chain.csv       the chain: step, walker, log_density, then one column per sampled
+  chain.npy       the chain, as a NumPy array of shape (steps, walkers) with the
+                  fields step, walker, log_density, then one per sampled
                   coordinate (free parameters; stick_k for the membership fractions)
   checkpoint.bin  the sampler's state and the quadratures, for --resume
   log.txt         what the run reported

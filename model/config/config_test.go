@@ -606,7 +606,9 @@ func TestDecodeErrors(t *testing.T) {
 		msg  string
 	}{
 		{"catalog = \"s.csv\"\nseeds = 3\n", 2, "seeds", "unknown setting; known at the top level: catalog, output, rotation"},
-		{"catalog = \"s.csv\"\n[sampler]\nmoves = { stretch = 1, de_move = 0.5 }\n", 3, "sampler.moves.de_move", "did you mean differential_evolution?"},
+		{"catalog = \"s.csv\"\n[sampler]\nmoves = { stretch = 1, diferential_evolution = 0.5 }\n", 3, "sampler.moves.diferential_evolution", "did you mean differential_evolution?"},
+		// Only the method's published name is known; other spellings get the list.
+		{"catalog = \"s.csv\"\n[sampler]\nmoves = { stretch = 1, de_move = 0.5 }\n", 3, "sampler.moves.de_move", "unknown setting; known in [sampler.moves]: stretch, differential_evolution, walk"},
 		{"catalog = \"s.csv\"\n[likelihood]\npilot_spread = { R0 = \"wide\" }\n", 3, "likelihood.pilot_spread.R0", "expected a number, found a TOML string"},
 		{"catalog = \"s.csv\"\n[likelihood]\ndistance_range = 30\n", 3, "likelihood.distance_range", "expected a list of numbers, found a TOML integer"},
 		{"catalog = \"s.csv\"\n[likelihood]\nexclude_inner = \"yes\"\n", 3, "likelihood.exclude_inner", "expected true or false, found a TOML string"},

@@ -65,7 +65,8 @@ func (c *Config) validateRotation(ps *problems) {
 	switch r.Curve {
 	case model.CurveLinear, model.CurvePower, model.CurveNodes:
 	default:
-		ps.addf("rotation.curve", "%q is not one of \"linear\", \"power\", \"nodes\"", r.Curve)
+		ps.addf("rotation.curve", "%q is not one of \"linear\", \"power\", \"nodes\"%s", r.Curve,
+			didYouMean(string(r.Curve), []string{string(model.CurveLinear), string(model.CurvePower), string(model.CurveNodes)}))
 	}
 	positive(ps, "rotation.core_radius", r.CoreRadius, "kpc")
 	if r.Curve != model.CurveNodes {
@@ -80,7 +81,8 @@ func (c *Config) validateRotation(ps *problems) {
 	switch r.Interpolation {
 	case model.MonotoneCubic, model.LinearInterp:
 	default:
-		ps.addf("rotation.interpolation", "%q is not one of \"monotone\", \"linear\"", r.Interpolation)
+		ps.addf("rotation.interpolation", "%q is not one of \"monotone\", \"linear\"%s", r.Interpolation,
+			didYouMean(string(r.Interpolation), []string{string(model.MonotoneCubic), string(model.LinearInterp)}))
 	}
 	if len(r.NodeRadii) < 2 {
 		ps.addf("rotation.node_radii", "the nodes curve needs at least two node radii (kpc), got %d", len(r.NodeRadii))
@@ -229,7 +231,8 @@ func (c *Config) validateLikelihood(ps *problems) {
 	switch l.Errors {
 	case model.ErrorsGaussian, model.ErrorsTolerant, model.ErrorsStudent:
 	default:
-		ps.addf("likelihood.error_model", "%q is not one of \"gaussian\", \"tolerant\", \"student\"", l.Errors)
+		ps.addf("likelihood.error_model", "%q is not one of \"gaussian\", \"tolerant\", \"student\"%s", l.Errors,
+			didYouMean(string(l.Errors), []string{string(model.ErrorsGaussian), string(model.ErrorsTolerant), string(model.ErrorsStudent)}))
 	}
 	positive(ps, "likelihood.student_dof", l.StudentDOF, "")
 	switch l.DistancePrior {
@@ -259,7 +262,7 @@ func (c *Config) validateLikelihood(ps *problems) {
 				return priors[i]
 			}
 		}
-		hint := ""
+		hint := didYouMean(name, names)
 		if strings.HasPrefix(name, "f_") {
 			hint = " (the fractions start at the centre of the simplex)"
 		}

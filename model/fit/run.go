@@ -26,7 +26,7 @@ import (
 const (
 	ManifestFile   = "run.json"       // what the run is and how far it got
 	ConfigFile     = "config.toml"    // the resolved configuration, usable with fit as it is
-	ChainFile      = "chain.csv"      // the chain, one row per walker per step
+	ChainFile      = "chain.npy"      // the chain (NumPy .npy), one record per walker per kept step
 	CheckpointFile = "checkpoint.bin" // the sampler's state and the quadrature layouts
 	PilotFile      = "pilot.json"     // the pilot stage: MAP point, spreads, quadrature
 	LogFile        = "log.txt"        // what the run reported, in order
@@ -168,6 +168,11 @@ func Fit(ctx context.Context, cfg *config.Config, opts Options) (*Outcome, error
 	cat, err := catalog.ReadFile(cfg.Catalog)
 	if err != nil {
 		return nil, err
+	}
+	for _, w := range cat.Warnings {
+		if opts.Log != nil {
+			fmt.Fprintf(opts.Log, "warning: %s\n", w)
+		}
 	}
 	catHash, err := FileSHA256(cfg.Catalog)
 	if err != nil {
@@ -356,7 +361,6 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 		Moves:           moves(cfg.Sampler),
 		Steps:           cfg.Sampler.Steps,
 		ChainPath:       filepath.Join(dir, ChainFile),
-		Comments:        []string{"mirabilis chain: sampled coordinates; stick_k are the membership fractions' stick-breaking reals"},
 		CheckpointPath:  ckPath,
 		CheckpointEvery: cfg.Sampler.CheckpointEvery,
 		Resume:          resuming,

@@ -128,7 +128,7 @@ func drawsOf(job *Job, c *mcmc.Chain, n, burn int) []Draw {
 	n = min(n, rows*W)
 	out := make([]Draw, 0, n)
 	for i := range n {
-		x := c.X[burn+i*rows/n][i%W]
+		x := c.Position(burn+i*rows/n, i%W, nil)
 		p, err := job.Post.Params(x)
 		if err != nil {
 			continue

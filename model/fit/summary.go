@@ -162,7 +162,7 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 	}
 	burn = min(burn, rows-2)
 	W := chain.Walkers()
-	s := &Summary{Steps: chain.Step[rows-1], Walkers: W, Burn: burn, Components: components(job.Spec)}
+	s := &Summary{Steps: chain.Step(rows - 1), Walkers: W, Burn: burn, Components: components(job.Spec)}
 	if res != nil {
 		s.Status, s.Acceptance, s.TauOK = res.Status.String(), res.MeanAcceptance(), res.TauReliable
 		for _, st := range res.Stuck {
@@ -184,9 +184,11 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 			series[q][k] = make([]float64, n)
 		}
 	}
+	var x []float64
 	for t := burn; t < rows; t++ {
 		for k := range W {
-			vals, der := job.values(chain.X[t][k])
+			x = chain.Position(t, k, x)
+			vals, der := job.values(x)
 			for q, name := range paramNames {
 				series[q][k][t-burn] = vals[name]
 			}
@@ -196,7 +198,7 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 		}
 	}
 	s.Samples = n * W
-	s.samples = samplesTable(names, chain.Step[burn:], series)
+	s.samples = samplesTable(names, chain.Steps()[burn:], series)
 	var mapVals, mapDer map[string]float64
 	if pilot != nil {
 		mapVals, mapDer = job.values(pilot.MAP)
@@ -254,7 +256,7 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 	nd := min(sourceDraws, n*W)
 	var draws []*model.Params
 	for i := range nd {
-		x := chain.X[burn+i*n/nd][i%W]
+		x := chain.Position(burn+i*n/nd, i%W, nil)
 		p, err := job.Post.Params(x)
 		if err != nil {
 			continue
