@@ -106,7 +106,7 @@ func runAssign(env *runEnv, o *assignOptions, args []string) error {
 	}
 	burn := run.Burn(0)
 	fmt.Fprintf(env.stdout, "Run %s: %d posterior draws from steps %d–%d (after a burn-in of %d).\n",
-		args[0], len(draws), run.Chain.Step[burn], run.Chain.Step[run.Chain.Len()-1], burn)
+		args[0], len(draws), run.Chain.Step(burn), run.Chain.Step(run.Chain.Len()-1), burn)
 	for _, a := range res {
 		writeAssignment(env.stdout, &a)
 	}

@@ -92,4 +92,3 @@ func openRuns(dirs []string) ([]*fit.Run, error) {
 	}
 	return runs, fit.SameModel(runs)
 }
-

@@ -120,7 +120,7 @@ func NewReport(runs []*Run, burn int) (*Report, error) {
 	rep := &Report{Parameters: map[string]ReportQuantity{}, Derived: map[string]ReportQuantity{},
 		Burn: b, Samples: sum.Samples, components: sum.Components, Warnings: []string{}}
 	for _, r := range runs {
-		rep.Runs = append(rep.Runs, ReportRun{Dir: r.Dir, Steps: r.Chain.Step[r.Chain.Len()-1], Walkers: r.Chain.Walkers(),
+		rep.Runs = append(rep.Runs, ReportRun{Dir: r.Dir, Steps: r.Chain.Step(r.Chain.Len() - 1), Walkers: r.Chain.Walkers(),
 			Seed: r.Job.Config.Sampler.Seed, State: r.Manifest.State})
 	}
 	// Within-run R̂ needs each run's own series of every quantity.
@@ -160,7 +160,7 @@ func NewReport(runs []*Run, burn int) (*Report, error) {
 		}
 		rep.Warnings = append(rep.Warnings, fmt.Sprintf("R̂ above %g, %s: %s", RhatLimit, what, strings.Join(high, ", ")))
 	}
-	kept := merged.Step[merged.Len()-1] - merged.Step[b]
+	kept := merged.Step(merged.Len()-1) - merged.Step(b)
 	if maxTau > 0 && float64(kept) < MinTauLengths*maxTau {
 		rep.Warnings = append(rep.Warnings, fmt.Sprintf("the chain after burn-in is %d steps, shorter than %d τ (τ = %.0f steps for %s): run longer",
 			kept, MinTauLengths, maxTau, tauOf))
@@ -213,9 +213,11 @@ func quantitySeries(r *Run, burn int) map[string][][]float64 {
 	c := r.Chain
 	rows, W := c.Len()-burn, c.Walkers()
 	out := map[string][][]float64{}
+	var x []float64
 	for t := burn; t < c.Len(); t++ {
 		for k := range W {
-			vals, der := r.Job.values(c.X[t][k])
+			x = c.Position(t, k, x)
+			vals, der := r.Job.values(x)
 			for _, m := range []map[string]float64{vals, der} {
 				for name, v := range m {
 					s, ok := out[name]
@@ -299,4 +301,3 @@ func (r *Report) SourcesCSV() []byte {
 	w.Flush()
 	return b.Bytes()
 }
-

@@ -26,13 +26,18 @@ func tinyRun(t *testing.T) *Run {
 }
 
 // shifted returns a copy of c with parameter j moved by delta in every walker and row.
-func shifted(c *mcmc.Chain, j int, delta float64) *mcmc.Chain {
-	out := &mcmc.Chain{Names: c.Names, Step: c.Step, LogDensity: c.LogDensity, X: make([][][]float64, c.Len())}
-	for t := range c.X {
-		for _, x := range c.X[t] {
-			y := append([]float64(nil), x...)
-			y[j] += delta
-			out.X[t] = append(out.X[t], y)
+func shifted(t *testing.T, c *mcmc.Chain, j int, delta float64) *mcmc.Chain {
+	out := mcmc.NewChain(c.Names, c.Walkers())
+	for row := range c.Len() {
+		pos := make([][]float64, c.Walkers())
+		lp := make([]float64, c.Walkers())
+		for k := range pos {
+			pos[k] = c.Position(row, k, nil)
+			pos[k][j] += delta
+			lp[k] = c.LogDensity(row, k)
+		}
+		if err := out.Append(c.Step(row), pos, lp); err != nil {
+			t.Fatal(err)
 		}
 	}
 	return out
@@ -79,7 +84,7 @@ func TestReportMergesRuns(t *testing.T) {
 	}
 	away := *r
 	away.Dir = r.Dir + "-away"
-	away.Chain = shifted(r.Chain, j, 10*single.Parameters["R0"].SD)
+	away.Chain = shifted(t, r.Chain, j, 10*single.Parameters["R0"].SD)
 	apart, err := NewReport([]*Run{r, &away}, 0)
 	if err != nil {
 		t.Fatal(err)
