@@ -79,4 +79,14 @@
 // 667), and FlagStuck. Summarize applies them to every parameter of a Chain.
 // A finished run is read back with ReadChainFile; runs are combined with
 // MergeChains and written with WriteChain.
+//
+// # Comparing models
+//
+// PSISLOO estimates a model's expected log predictive density for new data
+// by Pareto-smoothed importance-sampling leave-one-out cross-validation
+// (Vehtari, Gelman & Gabry 2017, Stat. Comput. 27, 1413; Vehtari et al.
+// 2024, JMLR 25, 72) from a matrix of pointwise log-likelihoods, with the
+// Pareto k̂ of every observation (ParetoSmooth, GPDFit); ComputeWAIC gives
+// WAIC from the same matrix, and PairedDifference the difference of two
+// models with its standard error. They agree with the R package loo.
 package mcmc

@@ -6,7 +6,7 @@ import (
 	"math"
 	"path/filepath"
 	"slices"
-	"strings"
+	"strconv"
 
 	"gonum.org/v1/plot/font"
 	"gonum.org/v1/plot/vg"
@@ -403,10 +403,10 @@ const maxArmTriangle = 16
 // dispersion, width slope), the arm parameters, and the fractions' stick-breaking reals.
 func chainColumns(names []string, armNames []string) (globals, armParams, sticks []int) {
 	for j, n := range names {
-		switch {
-		case strings.HasPrefix(n, "stick_"):
+		switch info, _ := param.Lookup(n, armNames); {
+		case param.IsStickName(n):
 			sticks = append(sticks, j)
-		case armOf(n, armNames) != "":
+		case info.Kind == param.Arm:
 			armParams = append(armParams, j)
 		default:
 			globals = append(globals, j)
@@ -415,45 +415,9 @@ func chainColumns(names []string, armNames []string) (globals, armParams, sticks
 	return globals, armParams, sticks
 }
 
-// armSuffixes are the endings of arm parameter names and the units of each.
-var armSuffixes = []struct{ suffix, unit string }{
-	{"_Rref", "kpc"}, {"_pitch2", "deg"}, {"_pitch", "deg"}, {"_kink", "deg"}, {"_width", "kpc"},
-}
-
-// armOf returns the arm a parameter name belongs to, "" for none.
-func armOf(name string, armNames []string) string {
-	for _, s := range armSuffixes {
-		if a, ok := strings.CutSuffix(name, s.suffix); ok && slices.Contains(armNames, a) {
-			return a
-		}
-	}
-	return ""
-}
-
-// paramLabel returns a parameter's name with its unit, for axis labels.
-func paramLabel(name string) string {
-	unit := ""
-	switch {
-	case name == param.R0:
-		unit = "kpc"
-	case name == param.DThetaDR:
-		unit = "km/s/kpc"
-	case name == param.Theta0, name == "sigma_vir", strings.HasPrefix(name, "Theta_"),
-		slices.Contains([]string{param.Usun, param.Vsun, param.Wsun, param.Us, param.Vs, param.Ws}, name):
-		unit = "km/s"
-	default:
-		for _, s := range armSuffixes {
-			if strings.HasSuffix(name, s.suffix) {
-				unit = s.unit
-				break
-			}
-		}
-	}
-	if unit == "" {
-		return name
-	}
-	return name + " (" + unit + ")"
-}
+// paramLabel returns a parameter's name with its unit, for axis labels, in a model with
+// the given arms.
+func paramLabel(name string, armNames []string) string { return param.Label(name, armNames) }
 
 // samplesAfterBurn returns the chain's draws after the summary's burn-in, keeping the
 // columns cols.
@@ -518,7 +482,8 @@ func globalsTriangle(in *figureInput) (plots.Figure, vg.Length, vg.Length, error
 		return nil, 0, 0, nil
 	}
 	globals, _, _ := chainColumns(c.Names, armNames(in.arms))
-	return in.triangle("Global parameters after burn-in", globals, paramLabel)
+	arms := armNames(in.arms)
+	return in.triangle("Global parameters after burn-in", globals, func(n string) string { return paramLabel(n, arms) })
 }
 
 // armsTriangle draws the triangle plot of the sampled arm parameters, or of their reference
@@ -545,7 +510,8 @@ func armColumnsToShow(names, armNames []string) (full bool, cols []int) {
 		return true, all
 	}
 	for _, j := range all {
-		if strings.HasSuffix(names[j], "_Rref") || strings.HasSuffix(names[j], "_pitch") {
+		info, _ := param.Lookup(names[j], armNames)
+		if names[j] == info.Arm+param.SuffixRref || names[j] == info.Arm+param.SuffixPitch {
 			cols = append(cols, j)
 		}
 	}
@@ -629,9 +595,9 @@ func traceFigure(in *figureInput) (plots.Figure, vg.Length, vg.Length, error) {
 // fractionLabel names the membership fraction of component k.
 func fractionLabel(components []string, k int) string {
 	if k < len(components) {
-		return "f_" + components[k]
+		return param.FractionName(components[k])
 	}
-	return fmt.Sprintf("f_%d", k)
+	return param.FractionName(strconv.Itoa(k))
 }
 
 // ---- membership ----

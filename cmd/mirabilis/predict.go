@@ -11,8 +11,10 @@ import (
 	"os"
 	"strconv"
 	"strings"
+	"text/tabwriter"
 
 	"github.com/mirabilis-astro/mirabilis/model"
+	"github.com/mirabilis-astro/mirabilis/model/param"
 )
 
 var predictCommand = &command{
@@ -48,38 +50,33 @@ type predictOptions struct {
 	coreRadius         float64
 }
 
-const paramsHelp = `A parameter file is a JSON object of parameter values keyed by name, for
-example
+var paramsHelp = `A parameter file is a JSON object of parameter values keyed by name, for
+example the true values of the demo galaxy ("mirabilis demo")
 
-	{"R0": 8.15, "Theta0": 236, "dTheta_dR": -0.5,
-	 "Usun": 10.6, "Vsun": 10.7, "Wsun": 7.6, "Us": 0, "Vs": -4, "Ws": 0,
-	 "sigma_vir": 5}
+	{"R0": 8.25, "Theta0": 232, "dTheta_dR": -0.6,
+	 "Usun": 10.5, "Vsun": 12.5, "Wsun": 7.5, "Us": 2, "Vs": -3, "Ws": 0,
+	 "sigma_vir": 6}
 
 It is read by "mirabilis predict" and "mirabilis eval". The names are those of the
 run configuration, the chain file and the summaries:
 
-  R0            kpc        distance of the Sun from the Galactic centre
-  Theta0        km/s       circular speed at R0 (linear and power curves)
-  dTheta_dR     km/s/kpc   slope of the linear rotation curve
-  alpha                    exponent of the power-law rotation curve
-  Theta_1 …     km/s       speeds at the node radii of the nodes curve
-  Usun Vsun Wsun km/s      the Sun's motion relative to circular rotation:
-                           toward the centre, along rotation, toward the NGP
-  Us Vs Ws      km/s       the sources' mean peculiar motion, same axes
-  sigma_vir     km/s       the sources' velocity scatter about that mean
-  width_slope   kpc/kpc    growth of the arms' widths with radius
-  NAME_Rref     kpc        radius of arm NAME at its reference azimuth
-  NAME_pitch    deg        its pitch angle (below the kink, for a kinked arm)
-  NAME_pitch2   deg        its pitch angle beyond the kink
-  NAME_kink     deg        the azimuth of its kink
-  NAME_width    kpc        its width at R0
-  f_field, f_NAME          membership fractions of the field and each arm
-
+` + paramTableText() + `
 The rotation-curve family is told by the names present: dTheta_dR for the
 linear curve, alpha for the power law, Theta_1 … for the nodes curve. Derived
-quantities reported in summaries: Omega_sun = (Theta0 + Vsun)/R0,
-Theta0_over_R0, Theta0_plus_Vsun, Oort_A, Oort_B (km/s/kpc), NAME_Rsun (kpc,
-where arm NAME crosses the line from the centre through the Sun).`
+quantities are reported in summaries and may take priors under
+[derived_priors]; a parameter file may hold them, and they are not used.`
+
+// paramTableText lists the parameter table (package param): name, unit, kind and meaning.
+func paramTableText() string {
+	var b strings.Builder
+	tw := tabwriter.NewWriter(&b, 0, 0, 2, ' ', 0)
+	fmt.Fprintln(tw, "  name\tunit\tkind\tmeaning")
+	for _, e := range param.Table() {
+		fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\n", e.Name, e.Unit, e.Kind, e.Description)
+	}
+	tw.Flush()
+	return b.String()
+}
 
 // point is one place at which to predict.
 type point struct {

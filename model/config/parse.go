@@ -301,7 +301,7 @@ func (d *fileConfig) fill(c *Config, ps *problems) {
 
 // fillParams reads the priors of the global parameters and derived quantities.
 func (d *fileConfig) fillParams(c *Config, ps *problems) {
-	names := GlobalNames(c.Rotation.Curve, len(c.Rotation.NodeRadii))
+	names := model.GlobalNames(c.Rotation.Curve, len(c.Rotation.NodeRadii))
 	given := map[string]bool{}
 	for _, key := range sortedKeys(d.Params) {
 		if !contains(names, key) {
@@ -353,17 +353,17 @@ func (c *Config) unknownParam(key string, names []string) string {
 		}
 	}
 	for _, curve := range []model.CurveFamily{model.CurveLinear, model.CurvePower, model.CurveNodes} {
-		if curve != c.Rotation.Curve && contains(GlobalNames(curve, 100), key) {
+		if curve != c.Rotation.Curve && contains(model.GlobalNames(curve, 100), key) {
 			return fmt.Sprintf("%s belongs to another rotation curve than %q", key, c.Rotation.Curve)
 		}
+	}
+	if info, ok := param.Lookup(key, c.armNames()); ok && info.Kind == param.Fraction {
+		return "the membership fractions have a Dirichlet prior, set by membership.concentration"
 	}
 	for _, a := range c.Arms {
 		if strings.HasPrefix(key, a.Name+"_") {
 			return "arm parameters are set in the arm's [[arm]] table (radius, pitch, pitch2, kink, width)"
 		}
-	}
-	if strings.HasPrefix(key, "f_") {
-		return "the membership fractions have a Dirichlet prior, set by membership.concentration"
 	}
 	return fmt.Sprintf("unknown parameter%s; the %s curve has %s", didYouMean(key, names), c.Rotation.Curve, strings.Join(names, ", "))
 }

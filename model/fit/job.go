@@ -102,6 +102,8 @@ func (j *Job) Spreads() []float64 {
 
 // PilotResult is what the pilot stage found.
 type PilotResult struct {
+	// Names are the sampled coordinates, in the order of MAP, Spread and each pilot.
+	Names []string
 	// MAP is the maximum a posteriori point, in sampled coordinates, and MAPLogDensity the
 	// log posterior there.
 	MAP           []float64
@@ -150,7 +152,7 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 	}
 	j.logf("quadrature at the starting point: %d nodes per source (median; %d–%d)", st.MedianNodes, st.MinNodes, st.MaxNodes)
 	spreads := j.Spreads()
-	res := &PilotResult{}
+	res := &PilotResult{Names: j.Post.Names()}
 	// Once the context is cancelled every point looks impossible, which ends the search
 	// within its budget at little cost; the cancellation is reported below.
 	logDensity := func(x []float64) float64 {

@@ -318,13 +318,13 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 				return nil, fmt.Errorf("%s: %w", ckPath, err)
 			}
 			job.logf("resuming at step %d", ck.Step)
-			data, err := os.ReadFile(filepath.Join(dir, PilotFile))
-			if err != nil {
+			var err error
+			pilot, err = readPilot(filepath.Join(dir, PilotFile), job.Post.Names())
+			if errors.Is(err, fs.ErrNotExist) {
 				return nil, fmt.Errorf("run directory %s has a checkpoint but no pilot stage: %w", dir, err)
 			}
-			pilot = new(PilotResult)
-			if err := json.Unmarshal(data, pilot); err != nil {
-				return nil, fmt.Errorf("%s: %w", filepath.Join(dir, PilotFile), err)
+			if err != nil {
+				return nil, err
 			}
 			if err := job.Exclude(pilot.Excluded); err != nil {
 				return nil, fmt.Errorf("%s: %w", filepath.Join(dir, PilotFile), err)
@@ -342,7 +342,7 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 		if err != nil {
 			return nil, err
 		}
-		if err := writeJSON(filepath.Join(dir, PilotFile), jsonSafe(pilot)); err != nil {
+		if err := writePilot(filepath.Join(dir, PilotFile), pilot); err != nil {
 			return nil, err
 		}
 	}

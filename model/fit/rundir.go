@@ -3,11 +3,9 @@ package fit
 import (
 	"bufio"
 	"bytes"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"io/fs"
-	"os"
 	"path/filepath"
 	"strings"
 
@@ -62,13 +60,12 @@ func OpenRun(dir string) (*Run, error) {
 	}
 	r := &Run{Dir: dir, Manifest: m, Job: job}
 	pilotPath := filepath.Join(dir, PilotFile)
-	data, err := os.ReadFile(pilotPath)
-	if err != nil {
+	r.Pilot, err = readPilot(pilotPath, job.Post.Names())
+	if errors.Is(err, fs.ErrNotExist) {
 		return nil, fmt.Errorf("run directory %s has no pilot stage yet: %w", dir, err)
 	}
-	r.Pilot = new(PilotResult)
-	if err := json.Unmarshal(data, r.Pilot); err != nil {
-		return nil, fmt.Errorf("%s: %w", pilotPath, err)
+	if err != nil {
+		return nil, err
 	}
 	if err := job.Exclude(r.Pilot.Excluded); err != nil {
 		return nil, fmt.Errorf("%s: %w", pilotPath, err)

@@ -207,6 +207,10 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 	for _, p := range cfg.DerivedPriors {
 		s.DerivedPriors = append(s.DerivedPriors, p.Name+" ~ "+p.Prior.String())
 	}
+	isFraction := map[string]bool{}
+	for _, name := range fractionNames(job.Spec) {
+		isFraction[name] = true
+	}
 	free := map[string]string{}
 	for i, name := range job.Config.ParamNames() {
 		if p := job.Config.Priors()[i]; !p.IsFixed() {
@@ -234,12 +238,12 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 		qt.ESS = float64(n*W) / qt.Tau
 		qt.Rhat, qt.ESSBulk, qt.ESSTail = mcmc.SplitRhat(series[q]), mcmc.BulkESS(series[q]), mcmc.TailESS(series[q])
 		if q < len(paramNames) {
-			if pr, ok := free[name]; ok || isFraction(name) {
+			if pr, ok := free[name]; ok || isFraction[name] {
 				qt.Prior = pr
-				if isFraction(name) {
+				if isFraction[name] {
 					qt.Prior = fmt.Sprintf("dirichlet(%g)", cfg.Membership.Concentration)
 				}
-				if !job.Spec.Galaxy && isFraction(name) {
+				if !job.Spec.Galaxy && isFraction[name] {
 					continue
 				}
 				s.Params = append(s.Params, qt)
@@ -306,8 +310,6 @@ func fractionNames(s *model.Spec) []string {
 	}
 	return out
 }
-
-func isFraction(name string) bool { return strings.HasPrefix(name, "f_") }
 
 // describe returns the quantiles and moments of a sample, NaN values left out.
 func describe(name string, x []float64) Quantity {
