@@ -11,6 +11,7 @@ import (
 	"io"
 	"math"
 	"math/rand/v2"
+	"strings"
 
 	"gonum.org/v1/gonum/diff/fd"
 	"gonum.org/v1/gonum/mat"
@@ -241,6 +242,10 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 	lp = logDensity(x)
 	j.logf("quadrature at %d pilots: %d nodes per source (median; %d–%d), %d not converged",
 		len(pilots), st.MedianNodes, st.MinNodes, st.MaxNodes, len(st.Unconverged))
+	if len(st.Fallback) > 0 {
+		j.logf("%d source(s) used up the panel refinements before resolving every peak and keep the fallback panels, refined on the error estimate alone: %s",
+			len(st.Fallback), strings.Join(st.Fallback, ", "))
+	}
 	res.MAP, res.MAPLogDensity, res.Spread, res.Pilots, res.Stats = x, lp, spread, pilots, st
 	return res, nil
 }

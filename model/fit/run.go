@@ -11,13 +11,10 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
-	"sort"
-	"strings"
 	"time"
 
 	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
 	"github.com/mirabilis-astro/mirabilis/mcmc"
-	"github.com/mirabilis-astro/mirabilis/model"
 	"github.com/mirabilis-astro/mirabilis/model/catalog"
 	"github.com/mirabilis-astro/mirabilis/model/config"
 )
@@ -304,9 +301,6 @@ func burnLimit(s config.Sampler) int {
 	}
 }
 
-// monitorSources is how many sources the quadrature monitor checks at each checkpoint.
-const monitorSources = 64
-
 func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, opts Options) (*Outcome, error) {
 	cfg := job.Config
 	ckPath := filepath.Join(dir, CheckpointFile)
@@ -352,7 +346,6 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 		return nil, err
 	}
 	names := job.Post.Names()
-	nsrc := len(job.Like.Sources)
 	set := &mcmc.Settings{
 		Names:           names,
 		Walkers:         cfg.Sampler.Walkers,
@@ -385,63 +378,27 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 		if ev.Step == 0 {
 			return reply, nil
 		}
-		// Monitor the quadrature at a few walkers for a sample of sources.
-		w := len(ev.Positions)
-		var at []int
-		for m := range 4 {
-			at = append(at, (ev.Step/max(1, cfg.Sampler.CheckpointEvery)+m*w/4)%w)
-		}
-		sample := make([]int, 0, monitorSources)
-		stride := max(1, nsrc/monitorSources)
-		for i := (ev.Step * 7919) % max(1, stride); i < nsrc && len(sample) < monitorSources; i += stride {
-			sample = append(sample, i)
-		}
-		bad := map[int]float64{}
-		var params []*model.Params
-		for _, k := range at {
-			p, err := job.Post.Params(ev.Positions[k])
-			if err != nil {
-				continue
-			}
-			params = append(params, p)
-			for i, e := range job.Like.Monitor(p, sample) {
-				bad[i] = max(bad[i], e)
-			}
-		}
-		if len(bad) == 0 {
-			return reply, nil
-		}
-		// Name the worst few; the rest are counted.
-		worst := make([]int, 0, len(bad))
-		for _, i := range sample {
-			if _, ok := bad[i]; ok {
-				worst = append(worst, i)
-			}
-		}
-		sort.SliceStable(worst, func(a, b int) bool { return bad[worst[a]] > bad[worst[b]] })
-		var list []string
-		for k, i := range worst {
-			if k == 5 {
-				list = append(list, fmt.Sprintf("and %d more", len(worst)-5))
-				break
-			}
-			list = append(list, fmt.Sprintf("%s (%.1e)", job.Like.Sources[i].Name, bad[i]))
+		// Measure the quadrature error at a few walkers for a sample of sources.
+		chk, err := job.checkQuadrature(ev.Step, cfg.Sampler.CheckpointEvery, ev.Positions)
+		if err != nil {
+			return reply, err
 		}
 		refine := ev.Step <= limit && !ev.Final
 		action := "kept as they are (past burn-in)"
 		if refine {
 			action = "refined"
 		}
-		job.logf("step %d: estimated quadrature error above %.0e for %d of %d sources checked: %s; panels %s",
-			ev.Step, job.Spec.Tol, len(worst), len(sample), strings.Join(list, ", "), action)
-		if !refine {
+		name := func(i int) string { return job.Like.Sources[i].Name }
+		if msg := chk.report(ev.Step, job.Spec.Tol, name, action); msg != "" {
+			job.logf("%s", msg)
+		}
+		bad := chk.over(job.Spec.Tol)
+		if !refine || len(bad) == 0 {
 			return reply, nil
 		}
-		for _, i := range sample {
-			if _, ok := bad[i]; ok {
-				if err := job.Like.Refine(i, params); err != nil {
-					return reply, err
-				}
+		for _, i := range bad {
+			if err := job.Like.Refine(i, chk.Params); err != nil {
+				return reply, err
 			}
 		}
 		data, err := job.Like.MarshalLayouts()
