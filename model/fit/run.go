@@ -414,7 +414,10 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 	}
 	start := mcmc.Start{Center: pilot.MAP, Scale: spread}
 	job.logf("sampling: %d walkers, %d dimensions, seed %d", set.Walkers, len(names), set.Seed)
-	res, err := mcmc.Run(ctx, mcmc.Problem{LogDensity: job.Post.LogDensity, Dim: len(names)}, start, set)
+	// Sources are shared among the threads that no walker keeps busy (fewer walkers in a
+	// half-step than threads, or the last walkers of one); the value is the same either way.
+	logDensity := func(x []float64) float64 { return job.Post.LogDensityParallel(x, set.Threads) }
+	res, err := mcmc.Run(ctx, mcmc.Problem{LogDensity: logDensity, Dim: len(names)}, start, set)
 	if err != nil {
 		return nil, err
 	}
