@@ -67,6 +67,8 @@ func (e exitError) Error() string { return fmt.Sprintf("exit status %d", e.code)
 // it reads first, then the tools around it.
 var commands = []*command{
 	fitCommand,
+	assignCommand,
+	reportCommand,
 	evalCommand,
 	simulateCommand,
 	checkCommand,
