@@ -108,6 +108,14 @@ func (L *Likelihood) layoutSource(i int, pilots []*Params) (*quad.Layout, quad.S
 	return quad.Build(lo, hi, breaks, fs, &set)
 }
 
+// sourceFeatures returns the breakpoints of source i at the parameter sets ps, whose
+// log-integrands are fs, over the source's distance range.
+func (L *Likelihood) sourceFeatures(i int, ps []*Params, fs []func(float64) float64) []float64 {
+	s := &L.Sources[i]
+	dlo, dhi, _ := s.DistanceRange(L.Spec)
+	return L.features(s, ps, fs, math.Log(dlo), math.Log(dhi))
+}
+
 // features returns candidate breakpoints in u for source s: where the integrand may change
 // sharply at some pilot.
 func (L *Likelihood) features(s *Source, pilots []*Params, fs []func(float64) float64, lo, hi float64) []float64 {
@@ -286,8 +294,10 @@ func (L *Likelihood) QuadratureErrors(p *Params, sources []int) ([]float64, erro
 	}
 	set := quad.Settings{Tol: L.Spec.Tol}
 	out := make([]float64, len(sources))
+	at := []*Params{p}
 	for k, i := range sources {
-		d, _, err := quad.Check(L.grids[i].layout, L.pilotFuncs(i, []*Params{p})[0], &set)
+		fs := L.pilotFuncs(i, at)
+		d, _, err := quad.Check(L.grids[i].layout, L.sourceFeatures(i, at, fs), fs[0], &set)
 		if err != nil {
 			return nil, fmt.Errorf("source %s: %w", L.Sources[i].Name, err)
 		}
@@ -321,10 +331,12 @@ func (L *Likelihood) Monitor(p *Params, sources []int) map[int]float64 {
 }
 
 // Refine refines the quadrature of source i so that it meets the tolerance at the given
-// parameter sets too, keeping its other panels.
+// parameter sets too: its panels are cut at the features found there and bisected as the
+// error estimate asks (quad.Refine); the others are kept.
 func (L *Likelihood) Refine(i int, at []*Params) error {
 	set := quad.Settings{Tol: L.Spec.Tol}
-	l, _, err := quad.Refine(L.grids[i].layout, L.pilotFuncs(i, at), &set)
+	fs := L.pilotFuncs(i, at)
+	l, _, err := quad.Refine(L.grids[i].layout, L.sourceFeatures(i, at, fs), fs, &set)
 	if err != nil {
 		return fmt.Errorf("source %s: %w", L.Sources[i].Name, err)
 	}

@@ -813,6 +813,28 @@ func appendEqual(out []span, a, c, width float64, probe bool) []span {
 	return out
 }
 
+// cutSpans cuts the ascending spans at the breakpoints that lie inside one of
+// them, farther than minWidth from its ends.
+func cutSpans(spans []span, breaks []float64, minWidth float64) []span {
+	br := slices.Clone(breaks)
+	sort.Float64s(br)
+	var out []span
+	k := 0
+	for _, sp := range spans {
+		for k < len(br) && br[k] <= sp.lo {
+			k++
+		}
+		for ; k < len(br) && br[k] < sp.hi; k++ {
+			if x := br[k]; x-sp.lo >= minWidth && sp.hi-x >= minWidth {
+				out = append(out, span{lo: sp.lo, hi: x, probe: sp.probe})
+				sp.lo = x
+			}
+		}
+		out = append(out, sp)
+	}
+	return out
+}
+
 // Build lays out the quadrature of a positive function over [lo, hi] from
 // its natural log at one or more pilot parameter sets, as described in the
 // package documentation. breaks are candidate breakpoints: places where the
@@ -900,17 +922,19 @@ func (b *builder) finish(lo, hi float64, converged bool, a *account) (*Layout, S
 }
 
 // Refine returns a layout refined from l for new pilot parameter sets (for
-// instance those where Layout.Estimate or Layout.Unresolved exceeded the
-// tolerance): its panels are bisected as in Build until the estimate meets
-// s.Tol and every peak above s.Tol/10 is resolved at every new pilot, and
-// every other panel is kept as it is. Gaps in
-// l are looked into, in stretches as wide as Build's first panels, and a
-// stretch where the log-integrand comes within s.Depth of its maximum at
+// instance those where Check found l off by more than the tolerance): its
+// panels are cut at the breakpoints breaks (as in Build: places where the new
+// integrands may change sharply; those outside the range or within MinWidth
+// of a panel's edge are ignored) and bisected as in Build until the estimate
+// meets s.Tol and every peak above s.Tol/10 is resolved at every new pilot;
+// every other panel is kept as it is. Gaps in l are looked into, in
+// stretches as wide as Build's first panels, also cut at the breakpoints, and
+// a stretch where the log-integrand comes within s.Depth of its maximum at
 // some pilot becomes a panel and is refined too. Nothing is merged; the
-// bisections are capped by s.MaxSplits, with the fallback of Build. l is
-// not changed.
-// Stats.Error includes the mass the probes found in the gaps that remain.
-func Refine(l *Layout, pilots []func(u float64) float64, s *Settings) (*Layout, Stats, error) {
+// bisections are capped by s.MaxSplits, with the fallback of Build. l is not
+// changed. Stats.Error includes the mass the probes found in the gaps that
+// remain.
+func Refine(l *Layout, breaks []float64, pilots []func(u float64) float64, s *Settings) (*Layout, Stats, error) {
 	set, err := s.resolved()
 	if err != nil {
 		return nil, Stats{}, err
@@ -926,29 +950,22 @@ func Refine(l *Layout, pilots []func(u float64) float64, s *Settings) (*Layout, 
 		return nil, Stats{}, err
 	}
 	width := min(set.MaxWidth, (l.hi-l.lo)/float64(set.MinPanels))
-	probe := func(a, c float64) error {
-		if !(c > a) {
-			return nil
-		}
-		for _, sp := range appendEqual(nil, a, c, width, true) {
-			if err := b.push(sp); err != nil {
-				return err
-			}
-		}
-		return nil
-	}
+	var spans []span
 	at := l.lo
 	for _, p := range l.panels {
-		if err := probe(at, p.Lo); err != nil {
-			return nil, Stats{}, err
+		if p.Lo > at {
+			spans = appendEqual(spans, at, p.Lo, width, true)
 		}
-		if err := b.push(span{lo: p.Lo, hi: p.Hi}); err != nil {
-			return nil, Stats{}, err
-		}
+		spans = append(spans, span{lo: p.Lo, hi: p.Hi})
 		at = p.Hi
 	}
-	if err := probe(at, l.hi); err != nil {
-		return nil, Stats{}, err
+	if l.hi > at {
+		spans = appendEqual(spans, at, l.hi, width, true)
+	}
+	for _, sp := range cutSpans(spans, breaks, set.MinWidth) {
+		if err := b.push(sp); err != nil {
+			return nil, Stats{}, err
+		}
 	}
 	converged, fallback, err := b.refineOrFallBack()
 	if err != nil {

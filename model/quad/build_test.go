@@ -231,7 +231,7 @@ func TestErrorBoundConservative(t *testing.T) {
 				// The monitor's view at the pilots agrees with the build and
 				// with the closed form, within Check's own Tol/10.
 				if trial%10 == 0 {
-					c, _, err := Check(l, m.logf, nil)
+					c, _, err := Check(l, nil, m.logf, nil)
 					if err != nil {
 						t.Fatal(err)
 					}
@@ -376,11 +376,11 @@ func TestMonitorAndRefine(t *testing.T) {
 	a := mix{{c: 0.3, s: 0.5, h: 1}, {c: 1.0, s: 0.01, h: 2}}
 	b := mix{{c: 0.3, s: 0.5, h: 1}, {c: 1.17, s: 0.01, h: 2}}
 	l, _ := mustBuild(t, fullLo, fullHi, []float64{1.0}, funcs(a), nil)
-	if c, _, err := Check(l, a.logf, nil); err != nil || math.Abs(c) > 1e-4 {
+	if c, _, err := Check(l, nil, a.logf, nil); err != nil || math.Abs(c) > 1e-4 {
 		t.Errorf("at the pilot: Check %.3g (Tol 1e-4), %v", c, err)
 	}
 	trueB := logAt(l, b.logf) - math.Log(b.integral(fullLo, fullHi))
-	c, _, err := Check(l, b.logf, nil)
+	c, _, err := Check(l, nil, b.logf, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -388,7 +388,7 @@ func TestMonitorAndRefine(t *testing.T) {
 	if math.Abs(trueB) <= 1e-4 || math.Abs(c-trueB) > 1e-5 {
 		t.Errorf("moved peak: Check %.3g, true error %.3g: want the true error, above Tol", c, trueB)
 	}
-	r, st, err := Refine(l, funcs(b), nil)
+	r, st, err := Refine(l, nil, funcs(b), nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -409,10 +409,10 @@ func TestMonitorAndRefine(t *testing.T) {
 		t.Errorf("the nodes see a peak in a gap (%.3g): the gap test is void", d)
 	}
 	trueGap := logAt(lc, moved.logf) - math.Log(moved.integral(fullLo, fullHi))
-	if c, _, err := Check(lc, moved.logf, nil); err != nil || math.Abs(c-trueGap) > 1e-5 || math.Abs(c) <= 1e-4 {
+	if c, _, err := Check(lc, nil, moved.logf, nil); err != nil || math.Abs(c-trueGap) > 1e-5 || math.Abs(c) <= 1e-4 {
 		t.Errorf("peak in a gap: Check %.3g (%v), true error %.3g", c, err, trueGap)
 	}
-	rc, st, err := Refine(lc, funcs(moved), nil)
+	rc, st, err := Refine(lc, nil, funcs(moved), nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -524,7 +524,7 @@ func TestBuildErrors(t *testing.T) {
 			t.Errorf("%s: no error", tc.name)
 		}
 	}
-	if _, _, err := Refine(nil, ok, nil); err == nil {
+	if _, _, err := Refine(nil, nil, ok, nil); err == nil {
 		t.Errorf("Refine of nil layout: no error")
 	}
 }
