@@ -10,8 +10,6 @@ import (
 	"os"
 	"strconv"
 	"strings"
-	"sync"
-	"sync/atomic"
 	"time"
 
 	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
@@ -658,6 +656,11 @@ func (s *sampler) checkpoint(final bool) error {
 	if err := atomicfile.Write(s.set.CheckpointPath, ck.encode()); err != nil {
 		return fmt.Errorf("checkpoint at step %d: %w", s.step, err)
 	}
+	if s.set.AfterCheckpoint != nil {
+		if err := s.set.AfterCheckpoint(s.step); err != nil {
+			return fmt.Errorf("after the checkpoint at step %d: %w", s.step, err)
+		}
+	}
 	return nil
 }
 
@@ -740,68 +743,4 @@ func (s *sampler) result() (*Result, error) {
 		r.Chain = c
 	}
 	return r, nil
-}
-
-// pool is a fixed set of goroutines that share out the indices 0…n−1 of a
-// job; the calling goroutine works as worker 0.
-type pool struct {
-	threads int
-	jobs    []chan poolJob
-	wg      sync.WaitGroup
-	next    atomic.Int64
-}
-
-type poolJob struct {
-	n  int
-	fn func(worker, k int)
-}
-
-func newPool(threads int) *pool {
-	p := &pool{threads: max(1, threads)}
-	for w := 1; w < p.threads; w++ {
-		ch := make(chan poolJob)
-		p.jobs = append(p.jobs, ch)
-		go func(w int) {
-			for j := range ch {
-				p.work(w, j.n, j.fn)
-				p.wg.Done()
-			}
-		}(w)
-	}
-	return p
-}
-
-// run calls fn(worker, k) for k = 0…n−1, spread over the pool, and waits.
-func (p *pool) run(n int, fn func(worker, k int)) {
-	t := min(p.threads, n)
-	if t <= 1 {
-		for k := 0; k < n; k++ {
-			fn(0, k)
-		}
-		return
-	}
-	p.next.Store(0)
-	p.wg.Add(t - 1)
-	for w := 1; w < t; w++ {
-		p.jobs[w-1] <- poolJob{n, fn}
-	}
-	p.work(0, n, fn)
-	p.wg.Wait()
-}
-
-func (p *pool) work(w, n int, fn func(worker, k int)) {
-	for {
-		k := int(p.next.Add(1)) - 1
-		if k >= n {
-			return
-		}
-		fn(w, k)
-	}
-}
-
-func (p *pool) stop() {
-	for _, ch := range p.jobs {
-		close(ch)
-	}
-	p.jobs = nil
 }

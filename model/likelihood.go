@@ -3,11 +3,11 @@ package model
 import (
 	"fmt"
 	"math"
-	"runtime"
 	"strings"
 	"sync"
 
 	"github.com/mirabilis-astro/mirabilis/internal/spelling"
+	"github.com/mirabilis-astro/mirabilis/internal/workpool"
 	"github.com/mirabilis-astro/mirabilis/model/catalog"
 	"github.com/mirabilis-astro/mirabilis/model/quad"
 )
@@ -490,35 +490,12 @@ func (L *Likelihood) InnerProbability(i int, p *Params, rInner float64) float64 
 	return in
 }
 
-// Parallel runs f(i) for i in [0, n) on workers goroutines (GOMAXPROCS when ≤ 0). Results
-// must be written to per-index slots, so that the outcome does not depend on the count.
+// Parallel runs f(i) for i in [0, n) on up to workers goroutines (GOMAXPROCS when ≤ 0)
+// of the process's one worker pool (package internal/workpool), the caller among them.
+// Results must be written to per-index slots, so that the outcome does not depend on the
+// count.
 func Parallel(n, workers int, f func(i int)) {
-	if workers <= 0 {
-		workers = runtime.GOMAXPROCS(0)
-	}
-	workers = min(workers, n)
-	if workers <= 1 {
-		for i := range n {
-			f(i)
-		}
-		return
-	}
-	var wg sync.WaitGroup
-	next := make(chan int)
-	for range workers {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for i := range next {
-				f(i)
-			}
-		}()
-	}
-	for i := range n {
-		next <- i
-	}
-	close(next)
-	wg.Wait()
+	workpool.Run(workers, n, func(_, i int) { f(i) })
 }
 
 // PeculiarMotion returns the source's peculiar motion (U, V, W) relative to circular
