@@ -6,6 +6,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
@@ -152,7 +153,7 @@ func TestOpenNumPyFiles(t *testing.T) {
 			t.Errorf("%s: %v", c.file, err)
 			continue
 		}
-		if !equalStrings(ch.Names, c.names) || ch.Len() != c.steps || ch.Walkers() != c.walkers {
+		if !slices.Equal(ch.Names, c.names) || ch.Len() != c.steps || ch.Walkers() != c.walkers {
 			t.Errorf("%s: names %q, %d steps of %d walkers", c.file, ch.Names, ch.Len(), ch.Walkers())
 		}
 		for s := range ch.Len() {
