@@ -12,6 +12,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/mirabilis-astro/mirabilis/internal/mocktest"
 	"github.com/mirabilis-astro/mirabilis/mcmc"
 	"github.com/mirabilis-astro/mirabilis/model"
 	"github.com/mirabilis-astro/mirabilis/model/catalog"
@@ -25,14 +26,14 @@ import (
 // truth, which keeps the fits short without favouring either arm model.
 func kinkGalaxy(t *testing.T, kinked bool) []byte {
 	t.Helper()
-	desc, err := os.ReadFile(testGalaxy)
+	desc, err := os.ReadFile(mocktest.File("two-arms.toml"))
 	if err != nil {
 		t.Fatal(err)
 	}
 	s := string(desc)
 	old := "radius = \"fixed(9.4)\"\npitch = \"fixed(11)\"\n"
 	if !strings.Contains(s, old) {
-		t.Fatalf("%s: the Tamarisk arm is not as expected", testGalaxy)
+		t.Fatalf("%s: the Tamarisk arm is not as expected", mocktest.File("two-arms.toml"))
 	}
 	arm := "radius = \"fixed(9.4)\"\npitch = \"fixed(6)\"\n"
 	if kinked {
