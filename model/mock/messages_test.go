@@ -14,6 +14,7 @@ func TestSurveyMessages(t *testing.T) {
 		{"\n[survey]\nwibble = 10\n", "survey.wibble: unknown setting; known in [survey]: sources, seed"},
 		{"\n[survey]\nheight = \"thin\"\n", "survey.height: expected a number, found a TOML string"},
 		{"\n[survey]\nparallax_error = 0.01\n", "survey.parallax_error: expected a list of two numbers"},
+		{"\n[survey]\nfractions = { fild = 0.1 }\n", `"fild" is neither "field" nor an arm of the model (did you mean field?)`},
 	} {
 		_, err := Parse(testGalaxy(t, c.table), "galaxy.toml", t.TempDir())
 		if err == nil || !strings.Contains(err.Error(), c.want) || !strings.Contains(err.Error(), "galaxy.toml:") ||

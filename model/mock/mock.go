@@ -281,13 +281,19 @@ func (m *Model) checkSurvey(name string) error {
 	}
 	arms := m.Config.Arms
 	known := map[string]bool{param.FieldComponent: true}
+	names := []string{param.FieldComponent}
 	for _, a := range arms {
 		known[a.Name] = true
+		names = append(names, a.Name)
 	}
 	var given float64
 	for k, v := range s.Fractions {
 		if !known[k] {
-			return bad("fractions", "%q is neither \"field\" nor an arm of the model", k)
+			hint := ""
+			if n := spelling.Nearest(k, names); n != "" {
+				hint = fmt.Sprintf(" (did you mean %s?)", n)
+			}
+			return bad("fractions", "%q is neither \"field\" nor an arm of the model%s", k, hint)
 		}
 		if !(v >= 0) {
 			return bad("fractions", "%s = %g must not be negative", k, v)
@@ -298,10 +304,6 @@ func (m *Model) checkSurvey(name string) error {
 		return bad("fractions", "shares add up to %g, more than 1", given)
 	}
 	n := 1 + len(arms)
-	names := append([]string{param.FieldComponent}, make([]string, len(arms))...)
-	for i, a := range arms {
-		names[i+1] = a.Name
-	}
 	unnamed := 0
 	for _, nm := range names {
 		if _, ok := s.Fractions[nm]; !ok {
