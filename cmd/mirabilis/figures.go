@@ -319,7 +319,7 @@ func (in *figureInput) triangle(title string, cols []int, label func(string) str
 	for k, j := range cols {
 		names[k] = label(c.Names[j])
 	}
-	fig, err := plots.NewCornerPlot(plots.CornerData{Title: title, Names: names, Samples: samplesAfterBurn(c, in.sum.Burn, cols)})
+	fig, err := plots.NewPairsPlot(plots.PairsData{Title: title, Names: names, Samples: samplesAfterBurn(c, in.sum.Burn, cols)})
 	if err != nil {
 		return nil, 0, 0, err
 	}
