@@ -31,8 +31,8 @@ var figureMakers = []struct {
 }{
 	{"map.png", mapFigure},
 	{"rotation.png", rotationFigure},
-	{"triangle.png", globalsTriangle},
-	{"arms.png", armsTriangle},
+	{"pairs.png", globalsTriangle},
+	{"pairs-arms.png", armsTriangle},
 	{"trace.png", traceFigure},
 	{"membership.png", membershipFigure},
 }
@@ -466,6 +466,9 @@ func membershipFigure(in *figureInput) (plots.Figure, vg.Length, vg.Length, erro
 	fig, err := plots.NewMembershipPlot(plots.MembershipData{Title: "Arm membership of each source", Arms: in.arms, Sources: rows})
 	if err != nil {
 		return nil, 0, 0, err
+	}
+	if fig.Compact() {
+		return fig, 10 * vg.Inch, 5 * vg.Inch, nil
 	}
 	// Rows of about 11 pt, up to 14 in high, then more columns of 4.5 in each.
 	const rowPt, overheadIn, maxHeightIn = 11.0, 1.6, 14.0
