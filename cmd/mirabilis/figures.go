@@ -124,13 +124,26 @@ func (in *figureInput) membership(i int) []float64 {
 // range along the line of sight, coloured by membership, and the peculiar motions of the
 // sources whose kinematics are all measured.
 func mapFigure(in *figureInput) (plots.Figure, vg.Length, vg.Length, error) {
+	d, err := mapData(in)
+	if err != nil {
+		return nil, 0, 0, err
+	}
+	fig, err := plots.FaceOnMap(d)
+	if err != nil {
+		return nil, 0, 0, err
+	}
+	return fig, 9 * vg.Inch, 9 * vg.Inch, nil
+}
+
+// mapData returns the face-on map's content (see mapFigure).
+func mapData(in *figureInput) (plots.MapData, error) {
 	R0 := in.median.Motion.R0()
 	lay := in.median.Layout
 	var tracks []plots.ArmTrack
 	for k, a := range lay.Arms {
 		o, err := a.Outline(R0, lay.WidthSlope, 0)
 		if err != nil {
-			return nil, 0, 0, err
+			return plots.MapData{}, err
 		}
 		tracks = append(tracks, plots.ArmTrack{Arm: in.arms[k], Centre: polars(o.Centre), Inner: polars(o.Inner), Outer: polars(o.Outer)})
 	}
@@ -167,11 +180,7 @@ func mapFigure(in *figureInput) (plots.Figure, vg.Length, vg.Length, error) {
 		Sources:     srcs,
 		MotionScale: motionScale(speeds, rMax),
 	}
-	fig, err := plots.FaceOnMap(d)
-	if err != nil {
-		return nil, 0, 0, err
-	}
-	return fig, 9 * vg.Inch, 9 * vg.Inch, nil
+	return d, nil
 }
 
 func polars(pts []arms.Point) []plots.Polar {
