@@ -46,16 +46,14 @@ func (c *Chain) Walkers() int {
 // Dim returns the number of parameters.
 func (c *Chain) Dim() int { return len(c.Names) }
 
+// clampBurn limits a number of burn-in rows to 0…Len.
+func (c *Chain) clampBurn(burn int) int { return min(max(burn, 0), c.Len()) }
+
 // Series returns the trace of parameter j for every walker, indexed
 // [walker][kept row], leaving out the first burn kept rows. The slices are
 // new; the chain is not modified.
 func (c *Chain) Series(j, burn int) [][]float64 {
-	if burn < 0 {
-		burn = 0
-	}
-	if burn > c.Len() {
-		burn = c.Len()
-	}
+	burn = c.clampBurn(burn)
 	w := c.Walkers()
 	out := make([][]float64, w)
 	flat := make([]float64, w*(c.Len()-burn))
@@ -73,12 +71,7 @@ func (c *Chain) Series(j, burn int) [][]float64 {
 // LogDensitySeries returns the log-density trace of every walker, indexed
 // [walker][kept row], leaving out the first burn kept rows.
 func (c *Chain) LogDensitySeries(burn int) [][]float64 {
-	if burn < 0 {
-		burn = 0
-	}
-	if burn > c.Len() {
-		burn = c.Len()
-	}
+	burn = c.clampBurn(burn)
 	w := c.Walkers()
 	out := make([][]float64, w)
 	for k := range out {
@@ -94,12 +87,7 @@ func (c *Chain) LogDensitySeries(burn int) [][]float64 {
 // flat sample, indexed [sample][parameter], walker by walker within each row.
 // The rows share no memory with the chain.
 func (c *Chain) Samples(burn int) [][]float64 {
-	if burn < 0 {
-		burn = 0
-	}
-	if burn > c.Len() {
-		burn = c.Len()
-	}
+	burn = c.clampBurn(burn)
 	w, n := c.Walkers(), c.Dim()
 	out := make([][]float64, 0, (c.Len()-burn)*w)
 	flat := make([]float64, (c.Len()-burn)*w*n)
