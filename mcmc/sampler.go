@@ -85,6 +85,8 @@ type Result struct {
 	Seconds float64
 	// TuneSteps is the settings' TuneSteps.
 	TuneSteps int
+	// Moves describes each move, as in a checkpoint.
+	Moves []string
 	// Widths holds each move's slice width μ at the end of the run (frozen
 	// after TuneSteps); 0 for the moves that are not slice moves.
 	Widths []float64
@@ -1072,6 +1074,7 @@ func (s *sampler) progress(began time.Time, first int, done bool) Progress {
 
 // result assembles the Result.
 func (s *sampler) result() *Result {
+	moveNames, _ := s.set.moveDescriptions()
 	r := &Result{
 		Chain:      s.chain,
 		Step:       s.step,
@@ -1087,6 +1090,7 @@ func (s *sampler) result() *Result {
 		Seconds:          s.elapsed(),
 		TuneSteps:        s.set.TuneSteps,
 		Widths:           append([]float64(nil), s.width...),
+		Moves:            moveNames,
 		Weights:          append([]float64(nil), s.weights...),
 	}
 	for i, x := range s.pos {

@@ -121,21 +121,37 @@ TOP LEVEL
                     free parameters, plus one fewer than the number of
                     fractions). Default max(2·D + 2, 32).
   steps             total chain length; 0 lets the run stop on its own once
-                    it is longer than 50 autocorrelation times and those
-                    have settled. Default 0.
+                    every parameter has an effective sample size of
+                    min_ess after burn-in, the chain is longer than 20
+                    autocorrelation times and those have settled. Default 0.
   max_steps         the longest a run that stops on its own may go.
                     Default 20000.
-  burn              initial steps left out of summaries. Default steps/4;
-                    with steps = 0, 0 means a quarter of the final length.
+  burn              initial steps left out of summaries, during which the
+                    slice moves tune their interval widths and the move
+                    weights adapt (both frozen afterwards). Default steps/4;
+                    with steps = 0, 0 means a quarter of the final length,
+                    and the tuning takes min(1000, max_steps/4) steps.
   seed              seed of the random streams; the same seed gives the same
                     chain whatever the number of threads. Default 1.
   threads           0 uses every core. Default 0.
   checkpoint_every  steps between checkpoints; 0 writes one at the end only.
                     Default 200.
-  moves             relative weights of the proposal moves: stretch,
-                    differential_evolution, walk.
-                    Default { stretch = 1, differential_evolution = 0, walk = 0 }.
+  moves             relative weights of the proposal moves: stretch and walk
+                    (Goodman & Weare 2010), differential_evolution (ter Braak
+                    2006), and the ensemble slice moves differential_slice
+                    and gaussian_slice (Karamanis & Beutler 2021), which
+                    cost a varying number of likelihood evaluations per
+                    step. Default { differential_slice = 1 }: see below.
+  adapt_weights     true lets the weights adapt during burn-in, in
+                    proportion to each move's squared jump per likelihood
+                    evaluation; they are frozen after burn-in and reported
+                    in summary.txt and summary.json. false keeps the weights
+                    given. Default true.
+  min_ess           with steps = 0, the effective sample size every
+                    parameter must reach after burn-in. Default 1000.
   stretch_scale     a > 1 of the stretch move. Default 2.
+
+  Why the default moves. MOVES_EVIDENCE
 
 EXAMPLE
 ` + Example
@@ -227,6 +243,8 @@ burn = 1000
 seed = 1
 threads = 0                      # all cores
 checkpoint_every = 200
-moves = { stretch = 1.0, differential_evolution = 0.0, walk = 0.0 }
+moves = { differential_slice = 1.0 }   # stretch, differential_evolution, walk, gaussian_slice
+adapt_weights = true
+min_ess = 1000
 stretch_scale = 2.0
 `

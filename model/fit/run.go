@@ -377,6 +377,8 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 		Seed:            cfg.Sampler.Seed,
 		Threads:         cfg.Sampler.Threads,
 		Moves:           moves(cfg.Sampler),
+		TuneSteps:       TuneSteps(cfg.Sampler),
+		AdaptWeights:    cfg.Sampler.AdaptWeights,
 		Steps:           cfg.Sampler.Steps,
 		ChainPath:       filepath.Join(dir, ChainFile),
 		Comments:        []string{"mirabilis chain: sampled coordinates; stick_k are the membership fractions' stick-breaking reals"},
@@ -393,6 +395,9 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 	if cfg.Sampler.Steps == 0 {
 		set.AutoStop = true
 		set.Steps = cfg.Sampler.MaxSteps
+		// The effective sample size decides; 20 τ is enough for the
+		// estimate of τ itself to settle (common practice, no source).
+		set.MinESS, set.TauFactor = cfg.Sampler.MinESS, 20
 	}
 	first := !resuming
 	set.OnCheckpoint = func(ev mcmc.CheckpointEvent) (mcmc.CheckpointReply, error) {
@@ -512,5 +517,25 @@ func moves(s config.Sampler) []mcmc.WeightedMove {
 	if s.Moves.Walk > 0 {
 		out = append(out, mcmc.WeightedMove{Move: mcmc.WalkMove{Subset: 0}, Weight: s.Moves.Walk})
 	}
+	if s.Moves.DiffSlice > 0 {
+		out = append(out, mcmc.WeightedMove{Move: mcmc.DifferentialSliceMove{}, Weight: s.Moves.DiffSlice})
+	}
+	if s.Moves.GaussSlice > 0 {
+		out = append(out, mcmc.WeightedMove{Move: mcmc.GaussianSliceMove{}, Weight: s.Moves.GaussSlice})
+	}
 	return out
+}
+
+// TuneSteps returns the number of steps during which the sampler tunes its
+// slice widths and adapts its move weights: the burn-in, or with no burn-in
+// given a quarter of the steps, or min(1000, max_steps/4) for a run that
+// stops on its own. Summaries leave at least these steps out.
+func TuneSteps(s config.Sampler) int {
+	switch {
+	case s.Burn > 0:
+		return s.Burn
+	case s.Steps > 0:
+		return s.Steps / 4
+	}
+	return min(1000, s.MaxSteps/4)
 }
