@@ -10,6 +10,8 @@ import (
 	"os"
 	"strconv"
 	"strings"
+
+	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
 )
 
 // Fixed leading columns of a chain file; the parameter columns follow.
@@ -252,7 +254,7 @@ func WriteChain(w io.Writer, c *Chain, comments []string) error {
 // createChainFile creates (or truncates) the chain file at path and writes
 // the comment lines and the header.
 func createChainFile(path string, comments []string, names []string) (*chainWriter, error) {
-	f, err := os.Create(path)
+	f, err := atomicfile.Create(path)
 	if err != nil {
 		return nil, fmt.Errorf("creating chain file: %w", err)
 	}

@@ -8,7 +8,6 @@ import (
 	"hash/crc32"
 	"math"
 	"os"
-	"path/filepath"
 )
 
 // checkpointMagic opens every checkpoint file; checkpointVersion is its layout.
@@ -235,41 +234,6 @@ func LoadCheckpoint(path string) (*Checkpoint, error) {
 		return nil, fmt.Errorf("checkpoint %s: %w", path, err)
 	}
 	return c, nil
-}
-
-// writeFileAtomic replaces path with data so that a reader sees either the
-// old or the new contents: it writes a temporary file in the same folder,
-// forces it to stable storage, renames it over path and syncs the folder.
-func writeFileAtomic(path string, data []byte) error {
-	dir := filepath.Dir(path)
-	f, err := os.CreateTemp(dir, filepath.Base(path)+".tmp*")
-	if err != nil {
-		return err
-	}
-	tmp := f.Name()
-	if _, err := f.Write(data); err != nil {
-		f.Close()
-		os.Remove(tmp)
-		return err
-	}
-	if err := f.Sync(); err != nil {
-		f.Close()
-		os.Remove(tmp)
-		return err
-	}
-	if err := f.Close(); err != nil {
-		os.Remove(tmp)
-		return err
-	}
-	if err := os.Rename(tmp, path); err != nil {
-		os.Remove(tmp)
-		return err
-	}
-	if d, err := os.Open(dir); err == nil {
-		d.Sync() // not supported everywhere; the rename itself has happened
-		d.Close()
-	}
-	return nil
 }
 
 // encoder writes unsigned varints, float64 bit patterns and length-prefixed

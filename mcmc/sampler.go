@@ -13,6 +13,8 @@ import (
 	"sync"
 	"sync/atomic"
 	"time"
+
+	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
 )
 
 // Status says why a run stopped.
@@ -1000,8 +1002,8 @@ func (s *sampler) checkpoint(final bool) error {
 		return fmt.Errorf("checkpoint at step %d: %w", s.step, err)
 	}
 	ck.moveStream = b
-	if err := writeFileAtomic(s.set.CheckpointPath, ck.encode()); err != nil {
-		return fmt.Errorf("writing checkpoint %s: %w", s.set.CheckpointPath, err)
+	if err := atomicfile.Write(s.set.CheckpointPath, ck.encode()); err != nil {
+		return fmt.Errorf("checkpoint at step %d: %w", s.step, err)
 	}
 	return nil
 }

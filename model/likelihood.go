@@ -207,17 +207,30 @@ func (s *Source) LogIntegrand(spec *Spec, p *Params, u float64, comp []float64) 
 
 // grid is a source's fixed quadrature: its layout, the distances of its nodes and the terms
 // of the log-integrand there that do not depend on the parameters.
+//
+// The fast path reads the rest, one contiguous array per quantity: the quadrature weights
+// w, the node's place in the plane relative to the Sun (px, py) = d cos b (cos l, sin l)
+// (kpc), and 1/(k d) (mas/yr per km/s).
 type grid struct {
 	layout *quad.Layout
 	d      []float64
 	base   []float64
+
+	w, px, py, invKD []float64
 }
 
 func newGrid(spec *Spec, s *Source, l *quad.Layout) *grid {
-	g := &grid{layout: l, d: l.Nodes(), base: make([]float64, l.Len())}
+	n := l.Len()
+	flat := make([]float64, 4*n)
+	g := &grid{layout: l, d: l.Nodes(), base: flat[:n:n], w: l.Weights(),
+		px: flat[n : 2*n : 2*n], py: flat[2*n : 3*n : 3*n], invKD: flat[3*n : 4*n : 4*n]}
 	for j, u := range g.d {
-		g.d[j] = math.Exp(u)
-		g.base[j] = s.logBase(spec, g.d[j])
+		d := math.Exp(u)
+		g.d[j] = d
+		g.base[j] = s.logBase(spec, d)
+		dc := d * s.Sight.CosB
+		g.px[j], g.py[j] = dc*s.Sight.CosL, dc*s.Sight.SinL
+		g.invKD[j] = 1 / (KmsPerKpcMasYr * d)
 	}
 	return g
 }
@@ -454,24 +467,6 @@ func (L *Likelihood) InnerProbability(i int, p *Params, rInner float64) float64 
 		}
 	}
 	return in
-}
-
-// MassQuantile returns the distance below which the fraction q of the node masses lies,
-// interpolating linearly in ln d between nodes.
-func MassQuantile(d, mass []float64, q float64) float64 {
-	var cum float64
-	for j, m := range mass {
-		next := cum + m
-		if next >= q && m > 0 {
-			if j == 0 {
-				return d[0]
-			}
-			a := (q - cum) / m
-			return math.Exp((1-a)*math.Log(d[j-1]) + a*math.Log(d[j]))
-		}
-		cum = next
-	}
-	return d[len(d)-1]
 }
 
 // Parallel runs f(i) for i in [0, n) on workers goroutines (GOMAXPROCS when ≤ 0). Results

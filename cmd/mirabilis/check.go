@@ -9,27 +9,29 @@ import (
 	"github.com/mirabilis-astro/mirabilis/model/catalog"
 )
 
-func init() {
-	register(&command{
-		Name:  "check",
-		Usage: "CATALOG.csv",
-		Short: "validate a catalog and summarise it",
-		Long: `Check reads a source catalog (see "mirabilis help catalog") and either prints a
+var checkCommand = &command{
+	Name:  "check",
+	Usage: "CATALOG.csv",
+	Short: "validate a catalog and summarise it",
+	Long: `Check reads a source catalog (see "mirabilis help catalog") and either prints a
 short summary of it — how many sources, which kinematic terms they carry, the range
 of parallax significance, the sky coverage, the arm labels — or lists every problem
 found, each with the file, line, column, offending value and what was expected.
 
 The exit status is 0 for a valid catalog and 1 for a catalog with problems: a
 catalog with any bad row is refused whole by every command, never half-read.`,
-		SetFlags: func(fs *flag.FlagSet) {
-			fs.Bool("quiet", false, "print nothing for a valid catalog; only the exit status tells")
-		},
-		Run: runCheck,
-	})
-	registerTopic(&topic{Name: "catalog", Short: "the source catalog format (CSV)", Text: func() string { return catalog.HelpText }})
+	Flags: func(fs *flag.FlagSet) runFunc {
+		var o checkOptions
+		fs.BoolVar(&o.quiet, "quiet", false, "print nothing for a valid catalog; only the exit status tells")
+		return func(env *runEnv, args []string) error { return runCheck(env, &o, args) }
+	},
 }
 
-func runCheck(env *runEnv, args []string) error {
+type checkOptions struct {
+	quiet bool
+}
+
+func runCheck(env *runEnv, o *checkOptions, args []string) error {
 	if len(args) != 1 {
 		return usageErrorf("want exactly one catalog file, got %d arguments", len(args))
 	}
@@ -42,7 +44,7 @@ func runCheck(env *runEnv, args []string) error {
 		}
 		return err
 	}
-	if env.flags.Lookup("quiet").Value.String() == "true" {
+	if o.quiet {
 		return nil
 	}
 	fmt.Fprintf(env.stdout, "%s: valid catalog\n%s", args[0], strings.TrimRight(cat.Summary().String(), "\n")+"\n")

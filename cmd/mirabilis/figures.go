@@ -4,7 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"os"
 	"path/filepath"
 	"slices"
 	"strings"
@@ -13,9 +12,11 @@ import (
 	"gonum.org/v1/plot/vg"
 
 	"github.com/mirabilis-astro/mirabilis/arms"
+	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
 	"github.com/mirabilis-astro/mirabilis/mcmc"
 	"github.com/mirabilis-astro/mirabilis/model"
 	"github.com/mirabilis-astro/mirabilis/model/fit"
+	"github.com/mirabilis-astro/mirabilis/model/param"
 	"github.com/mirabilis-astro/mirabilis/model/prior"
 	"github.com/mirabilis-astro/mirabilis/plots"
 )
@@ -48,7 +49,7 @@ func writeFigures(out *fit.Outcome) ([]string, error) {
 		return nil, fmt.Errorf("figures: %w", err)
 	}
 	dir := filepath.Join(out.Dir, figuresDir)
-	if err := os.MkdirAll(dir, 0o755); err != nil {
+	if err := atomicfile.MkdirAll(dir); err != nil {
 		return nil, fmt.Errorf("figures: %w", err)
 	}
 	var paths []string
@@ -367,10 +368,10 @@ func rotationFigure(in *figureInput) (plots.Figure, vg.Length, vg.Length, error)
 	if d.RCore == 0 {
 		d.RCore = model.DefaultCoreRadius
 	}
-	if q, ok := in.quantity(model.ParamR0); ok {
+	if q, ok := in.quantity(param.R0); ok {
 		d.R0, d.R0Err = q.Median, (q.Hi68-q.Lo68)/2
 	}
-	if q, ok := in.quantity(model.ParamTheta0); ok {
+	if q, ok := in.quantity(param.Theta0); ok {
 		d.Theta0, d.Theta0Err = q.Median, (q.Hi68-q.Lo68)/2
 	}
 	fig, err := plots.RotationCurvePlot(d)
@@ -433,12 +434,12 @@ func armOf(name string, armNames []string) string {
 func paramLabel(name string) string {
 	unit := ""
 	switch {
-	case name == model.ParamR0:
+	case name == param.R0:
 		unit = "kpc"
-	case name == model.ParamSlope:
+	case name == param.DThetaDR:
 		unit = "km/s/kpc"
-	case name == model.ParamTheta0, name == "sigma_vir", strings.HasPrefix(name, "Theta_"),
-		slices.Contains([]string{model.ParamUsun, model.ParamVsun, model.ParamWsun, model.ParamUs, model.ParamVs, model.ParamWs}, name):
+	case name == param.Theta0, name == "sigma_vir", strings.HasPrefix(name, "Theta_"),
+		slices.Contains([]string{param.Usun, param.Vsun, param.Wsun, param.Us, param.Vs, param.Ws}, name):
 		unit = "km/s"
 	default:
 		for _, s := range armSuffixes {

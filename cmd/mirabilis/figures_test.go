@@ -66,7 +66,11 @@ func TestFiguresOfSmallFit(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	data, _, err := m.Render(nil)
+	spec, err := fit.SpecFromConfig(m.Config)
+	if err != nil {
+		t.Fatal(err)
+	}
+	data, _, err := m.Render(spec, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -15,12 +15,11 @@ import (
 	"github.com/mirabilis-astro/mirabilis/model"
 )
 
-func init() {
-	register(&command{
-		Name:  "predict",
-		Usage: "--params PARAMS.json --at POINTS.csv [--format csv|json] [--core-radius KPC]",
-		Short: "predict what sources at given places would be seen to do",
-		Long: `Predict computes, for a parameter set and a list of places in the Galaxy, what a
+var predictCommand = &command{
+	Name:  "predict",
+	Usage: "--params PARAMS.json --at POINTS.csv [--format csv|json] [--core-radius KPC]",
+	Short: "predict what sources at given places would be seen to do",
+	Long: `Predict computes, for a parameter set and a list of places in the Galaxy, what a
 source at each place would be seen to do if it moved exactly with the model: its
 Galactocentric radius and azimuth, the circular speed there, its proper motions in
 equatorial and Galactic coordinates and its line-of-sight velocity, heliocentric and
@@ -34,15 +33,19 @@ The output has one row (csv) or one object (json) per point with the keys
   name, l, b, ra, dec (deg), distance (kpc), R (kpc), beta (deg), theta (km/s),
   pmra, pmdec, pml, pmb (mas/yr; pmra = μα cos δ, pml = μl cos b),
   vhelio, vlsr (km/s).`,
-		SetFlags: func(fs *flag.FlagSet) {
-			fs.String("params", "", "`PARAMS.json`: parameter values, a JSON object keyed by name (required)")
-			fs.String("at", "", "`POINTS.csv`: the places, CSV with l,b or ra,dec and distance (required)")
-			fs.String("format", "csv", "output `FORMAT`: csv or json")
-			fs.Float64("core-radius", model.DefaultCoreRadius, "radius `KPC` inside which the rotation rises as a solid body")
-		},
-		Run: runPredict,
-	})
-	registerTopic(&topic{Name: "params", Short: "parameter files (JSON) and parameter names", Text: func() string { return paramsHelp }})
+	Flags: func(fs *flag.FlagSet) runFunc {
+		var o predictOptions
+		fs.StringVar(&o.params, "params", "", "`PARAMS.json`: parameter values, a JSON object keyed by name (required)")
+		fs.StringVar(&o.at, "at", "", "`POINTS.csv`: the places, CSV with l,b or ra,dec and distance (required)")
+		fs.StringVar(&o.format, "format", "csv", "output `FORMAT`: csv or json")
+		fs.Float64Var(&o.coreRadius, "core-radius", model.DefaultCoreRadius, "radius `KPC` inside which the rotation rises as a solid body")
+		return func(env *runEnv, args []string) error { return runPredict(env, &o, args) }
+	},
+}
+
+type predictOptions struct {
+	params, at, format string
+	coreRadius         float64
 }
 
 const paramsHelp = `A parameter file is a JSON object of parameter values keyed by name, for
@@ -89,19 +92,18 @@ type point struct {
 var predictKeys = []string{"name", "l", "b", "ra", "dec", "distance", "R", "beta", "theta",
 	"pmra", "pmdec", "pml", "pmb", "vhelio", "vlsr"}
 
-func runPredict(env *runEnv, args []string) error {
+func runPredict(env *runEnv, o *predictOptions, args []string) error {
 	if len(args) > 0 {
 		return usageErrorf("unexpected argument %q", args[0])
 	}
-	get := func(n string) string { return env.flags.Lookup(n).Value.String() }
-	paramsPath, atPath, format := get("params"), get("at"), get("format")
+	paramsPath, atPath, format := o.params, o.at, o.format
 	if paramsPath == "" || atPath == "" {
 		return usageErrorf("--params and --at are both required")
 	}
 	if format != "csv" && format != "json" {
 		return usageErrorf("--format %q: want csv or json", format)
 	}
-	rcore, _ := strconv.ParseFloat(get("core-radius"), 64)
+	rcore := o.coreRadius
 	values, err := model.ReadParamValues(paramsPath)
 	if err != nil {
 		return err

@@ -8,6 +8,8 @@ import (
 	"math"
 	"strings"
 	"unicode/utf8"
+
+	"github.com/mirabilis-astro/mirabilis/internal/spelling"
 )
 
 // column is a canonical catalog column.
@@ -304,41 +306,9 @@ func commentIsHeader(comment string) bool {
 }
 
 // suggestColumn returns the canonical column nearest to an unknown name, or
-// "" if none is close: at most two edits away, and fewer edits than half the
-// name's length (so that short names do not match everything).
+// "" if none is close (see spelling.Nearest).
 func suggestColumn(name string) string {
-	n := strings.ToLower(name)
-	if len(n) > 16 {
-		return "" // more than two edits from every column name
-	}
-	best, bestDist := "", 3
-	for _, cn := range columnNames {
-		if d := editDistance(n, cn); d < bestDist && 2*d < len(n) {
-			best, bestDist = cn, d
-		}
-	}
-	return best
-}
-
-// editDistance is the Levenshtein distance between a and b, in bytes.
-func editDistance(a, b string) int {
-	prev := make([]int, len(b)+1)
-	cur := make([]int, len(b)+1)
-	for j := range prev {
-		prev[j] = j
-	}
-	for i := 1; i <= len(a); i++ {
-		cur[0] = i
-		for j := 1; j <= len(b); j++ {
-			cost := 1
-			if a[i-1] == b[j-1] {
-				cost = 0
-			}
-			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+cost)
-		}
-		prev, cur = cur, prev
-	}
-	return prev[len(b)]
+	return spelling.Nearest(name, columnNames[:])
 }
 
 // value returns the trimmed field of column c in the current row, or "" if

@@ -14,52 +14,12 @@
 package config
 
 import (
-	"fmt"
 	"math"
 	"sort"
 
+	"github.com/mirabilis-astro/mirabilis/model"
+	"github.com/mirabilis-astro/mirabilis/model/param"
 	"github.com/mirabilis-astro/mirabilis/model/prior"
-)
-
-// Curve names a family of rotation curves.
-type Curve string
-
-// The rotation-curve families. Each rises as a solid body inside
-// Rotation.CoreRadius.
-const (
-	// CurveLinear is Θ(R) = Θ0 + (dΘ/dR)(R − R0).
-	CurveLinear Curve = "linear"
-	// CurvePower is Θ(R) = Θ0 (R/R0)^α.
-	CurvePower Curve = "power"
-	// CurveNodes has free speeds Θ_j at chosen radii, interpolated between
-	// them and flat beyond both ends; Θ0 = Θ(R0) is then derived.
-	CurveNodes Curve = "nodes"
-)
-
-// Interpolation names the interpolant between rotation-curve nodes.
-type Interpolation string
-
-// The interpolants of the nodes curve.
-const (
-	// InterpMonotone is a monotone piecewise cubic (no overshoot between nodes).
-	InterpMonotone Interpolation = "monotone"
-	// InterpLinear joins the nodes by straight lines.
-	InterpLinear Interpolation = "linear"
-)
-
-// ErrorModel names the distribution of the kinematic residuals.
-type ErrorModel string
-
-// The error models of the kinematic terms.
-const (
-	// ErrorsGaussian is N(r; 0, σ).
-	ErrorsGaussian ErrorModel = "gaussian"
-	// ErrorsTolerant is the conservative formulation of Sivia & Skilling
-	// (2006, Data Analysis: A Bayesian Tutorial, §8.3), which lets a few wild
-	// residuals pass without dragging the fit.
-	ErrorsTolerant ErrorModel = "tolerant"
-	// ErrorsStudent is Student's t with Likelihood.StudentDOF degrees of freedom.
-	ErrorsStudent ErrorModel = "student"
 )
 
 // DistancePrior names the prior on each source's distance.
@@ -112,8 +72,8 @@ type Param struct {
 
 // Rotation describes the rotation curve.
 type Rotation struct {
-	// Curve is the family; default CurveLinear.
-	Curve Curve
+	// Curve is the family; default model.CurveLinear.
+	Curve model.CurveFamily
 	// CoreRadius R_core (kpc): inside it the curve rises as a solid body,
 	// Θ(R) = Θ(R_core) R / R_core. Default 2.
 	CoreRadius float64
@@ -121,9 +81,9 @@ type Rotation struct {
 	// CoreRadius) are the radii of the nodes curve's free speeds Theta_1 …
 	// Theta_N. Empty for the other curves.
 	NodeRadii []float64
-	// Interpolation between nodes; default InterpMonotone. Empty for the
-	// other curves.
-	Interpolation Interpolation
+	// Interpolation between nodes; default model.MonotoneCubic. Empty for
+	// the other curves.
+	Interpolation model.Interpolation
 }
 
 // Arm is one log-periodic spiral arm,
@@ -173,8 +133,8 @@ type Membership struct {
 // Likelihood holds the settings of the per-source likelihood.
 type Likelihood struct {
 	// Errors is the error model of the kinematic residuals; default
-	// ErrorsGaussian.
-	Errors ErrorModel
+	// model.ErrorsGaussian.
+	Errors model.ErrorKind
 	// StudentDOF ν of the Student-t error model (> 0). Default 4.
 	StudentDOF float64
 	// DistancePrior is the prior on distances; default DistanceGalaxy.
@@ -264,66 +224,23 @@ type Moves struct {
 // the demo galaxy and on mock catalogs (see HelpText).
 var DefaultMoves = Moves{DiffSlice: 1}
 
-// Names of the global parameters, as used in params files, chains and summaries.
-const (
-	NameR0         = "R0"        // kpc
-	NameTheta0     = "Theta0"    // km/s
-	NameDThetaDR   = "dTheta_dR" // km/s/kpc, linear curve
-	NameAlpha      = "alpha"     // power curve
-	NameUsun       = "Usun"      // km/s
-	NameVsun       = "Vsun"      // km/s
-	NameWsun       = "Wsun"      // km/s
-	NameUs         = "Us"        // km/s
-	NameVs         = "Vs"        // km/s
-	NameWs         = "Ws"        // km/s
-	NameSigmaVir   = "sigma_vir" // km/s
-	NameWidthSlope = "width_slope"
-)
-
-// Names of derived quantities that may carry a prior.
-const (
-	NameOmegaSun      = "Omega_sun"        // km/s/kpc, (Theta0 + Vsun)/R0
-	NameThetaOverR0   = "Theta0_over_R0"   // km/s/kpc
-	NameThetaPlusVsun = "Theta0_plus_Vsun" // km/s
-	NameOortA         = "Oort_A"           // km/s/kpc
-	NameOortB         = "Oort_B"           // km/s/kpc
-)
-
-// Suffixes of the per-arm parameter names NAME_suffix.
-const (
-	SuffixRref   = "_Rref"
-	SuffixPitch  = "_pitch"
-	SuffixPitch2 = "_pitch2"
-	SuffixKink   = "_kink"
-	SuffixWidth  = "_width"
-	SuffixRsun   = "_Rsun"
-)
-
-// FieldFraction is the name of the field's membership fraction; an arm's is
-// "f_" + its name.
-const FieldFraction = "f_field"
-
-// NodeName returns the name of the j-th speed of the nodes curve, counted
-// from 1: "Theta_1", "Theta_2" …
-func NodeName(j int) string { return fmt.Sprintf("Theta_%d", j) }
-
 // GlobalNames returns the names of the global parameters for a curve with
-// nodes rotation-curve nodes (ignored unless curve is CurveNodes), in the
+// nodes rotation-curve nodes (ignored unless curve is model.CurveNodes), in the
 // order used throughout: R0, the curve's parameters, Usun, Vsun, Wsun, Us, Vs,
 // Ws, sigma_vir, width_slope.
-func GlobalNames(curve Curve, nodes int) []string {
-	names := []string{NameR0}
+func GlobalNames(curve model.CurveFamily, nodes int) []string {
+	names := []string{param.R0}
 	switch curve {
-	case CurveLinear:
-		names = append(names, NameTheta0, NameDThetaDR)
-	case CurvePower:
-		names = append(names, NameTheta0, NameAlpha)
-	case CurveNodes:
+	case model.CurveLinear:
+		names = append(names, param.Theta0, param.DThetaDR)
+	case model.CurvePower:
+		names = append(names, param.Theta0, param.Alpha)
+	case model.CurveNodes:
 		for j := 1; j <= nodes; j++ {
-			names = append(names, NodeName(j))
+			names = append(names, param.NodeName(j))
 		}
 	}
-	return append(names, NameUsun, NameVsun, NameWsun, NameUs, NameVs, NameWs, NameSigmaVir, NameWidthSlope)
+	return append(names, param.Usun, param.Vsun, param.Wsun, param.Us, param.Vs, param.Ws, param.SigmaVir, param.WidthSlope)
 }
 
 // DefaultPrior returns the prior a global parameter gets when the file gives
@@ -331,28 +248,28 @@ func GlobalNames(curve Curve, nodes int) []string {
 // the Milky Way and its star-forming regions rather than encode a measurement.
 func DefaultPrior(name string) prior.Prior {
 	switch name {
-	case NameR0:
+	case param.R0:
 		return prior.Uniform{Min: 6, Max: 11}
-	case NameTheta0:
+	case param.Theta0:
 		return prior.Uniform{Min: 150, Max: 320}
-	case NameDThetaDR:
+	case param.DThetaDR:
 		return prior.Uniform{Min: -10, Max: 10}
-	case NameAlpha:
+	case param.Alpha:
 		return prior.Uniform{Min: -0.5, Max: 0.5}
-	case NameUsun:
+	case param.Usun:
 		return prior.Uniform{Min: -10, Max: 30}
-	case NameVsun:
+	case param.Vsun:
 		return prior.Uniform{Min: -20, Max: 40}
-	case NameWsun:
+	case param.Wsun:
 		return prior.Uniform{Min: -5, Max: 20}
-	case NameUs, NameVs, NameWs:
+	case param.Us, param.Vs, param.Ws:
 		return prior.Uniform{Min: -30, Max: 30}
-	case NameSigmaVir:
+	case param.SigmaVir:
 		return prior.Uniform{Min: 0, Max: 40}
-	case NameWidthSlope:
+	case param.WidthSlope:
 		return prior.Fixed{Value: 0}
 	}
-	if IsNodeName(name) {
+	if param.IsNodeName(name) {
 		return prior.Uniform{Min: 100, Max: 350}
 	}
 	return nil
@@ -362,14 +279,14 @@ func DefaultPrior(name string) prior.Prior {
 // none: loguniform(0.05, 1.5).
 func DefaultWidth() prior.Prior { return prior.LogUniform{Min: 0.05, Max: 1.5} }
 
-// Default values of the settings, documented in HelpText. Those of the model
-// (core and inner radii, bar, softening, field scale, concentration, distance
-// range, tolerance, stretch scale) are fixed by the model specification
+// Default values of the settings, documented in HelpText (the core radius's is
+// model.DefaultCoreRadius). Those of the model (inner radius, bar, softening,
+// field scale, concentration, distance range, tolerance, stretch scale) are
+// fixed by the model specification
 // (MODEL.md §3–7); ν = 4 for the Student-t errors is a common choice for
 // robust fits (Lange, Little & Taylor 1989, JASA 84, 881; from memory); the
 // sampler's bookkeeping (max steps, seed, checkpoints) is this package's choice.
 const (
-	DefaultCoreRadius      = 2.0  // kpc
 	DefaultFieldScale      = 3.0  // kpc
 	DefaultConcentration   = 1.0  // symmetric Dirichlet α
 	DefaultArmEndSoftening = 3.0  // deg
@@ -388,15 +305,6 @@ const (
 	DefaultAdaptWeights    = true
 	MinDefaultWalkers      = 32
 )
-
-// IsNodeName reports whether name is the name of a nodes-curve speed, "Theta_j" with
-// j ≥ 1 written without leading zeros.
-func IsNodeName(name string) bool {
-	var j int
-	var rest string
-	n, _ := fmt.Sscanf(name, "Theta_%d%s", &j, &rest)
-	return n == 1 && j >= 1 && name == NodeName(j)
-}
 
 // ParamNames returns the names of all parameters in the model's order: the
 // globals (GlobalNames), then for each arm NAME_Rref, NAME_pitch, for a kinked
@@ -474,17 +382,17 @@ func (c *Config) params() []Param {
 
 // armParams lists an arm's parameters: Rref, pitch, [pitch2, kink], width.
 func armParams(a Arm) []Param {
-	ps := []Param{{a.Name + SuffixRref, a.Radius}, {a.Name + SuffixPitch, a.Pitch}}
+	ps := []Param{{a.Name + param.SuffixRref, a.Radius}, {a.Name + param.SuffixPitch, a.Pitch}}
 	if a.Kinked() {
-		ps = append(ps, Param{a.Name + SuffixPitch2, a.Pitch2}, Param{a.Name + SuffixKink, a.Kink})
+		ps = append(ps, Param{a.Name + param.SuffixPitch2, a.Pitch2}, Param{a.Name + param.SuffixKink, a.Kink})
 	}
-	return append(ps, Param{a.Name + SuffixWidth, a.Width})
+	return append(ps, Param{a.Name + param.SuffixWidth, a.Width})
 }
 
 // FractionNames returns the names of the membership fractions: f_field, then
 // f_NAME for each arm in order.
 func (c *Config) FractionNames() []string {
-	names := []string{FieldFraction}
+	names := []string{param.FieldFraction}
 	for _, a := range c.Arms {
 		names = append(names, "f_"+a.Name)
 	}
@@ -529,12 +437,12 @@ func DefaultWalkers(dim int) int {
 // prior: Omega_sun, Theta0_over_R0, Theta0_plus_Vsun, Oort_A, Oort_B, for the
 // nodes curve Theta0 (which is then derived), and NAME_Rsun for each arm.
 func (c *Config) DerivedNames() []string {
-	names := []string{NameOmegaSun, NameThetaOverR0, NameThetaPlusVsun, NameOortA, NameOortB}
-	if c.Rotation.Curve == CurveNodes {
-		names = append(names, NameTheta0)
+	names := []string{param.OmegaSun, param.ThetaOverR0, param.ThetaPlusVsun, param.OortA, param.OortB}
+	if c.Rotation.Curve == model.CurveNodes {
+		names = append(names, param.Theta0)
 	}
 	for _, a := range c.Arms {
-		names = append(names, a.Name+SuffixRsun)
+		names = append(names, a.Name+param.SuffixRsun)
 	}
 	return names
 }

@@ -65,7 +65,10 @@ TOP LEVEL
   (km/s/kpc, (Theta0 + Vsun)/R0), Theta0_over_R0 (km/s/kpc),
   Theta0_plus_Vsun (km/s), Oort_A and Oort_B (km/s/kpc), NAME_Rsun (kpc,
   where arm NAME crosses the Sun–centre line) and, for the nodes curve,
-  Theta0 (km/s).
+  Theta0 (km/s). Such a prior multiplies the priors of the parameters the
+  quantity depends on: with Omega_sun = normal(30.3, 0.3), the effective
+  prior of R0, Theta0 and Vsun is no longer the one written for each under
+  [params], and summaries list the stated priors as stated, not effective.
 
 [[arm]]  (one table per arm; none is allowed)
   name              letters, digits and underscores, starting with a letter;

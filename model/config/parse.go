@@ -13,6 +13,8 @@ import (
 
 	toml "github.com/pelletier/go-toml/v2"
 
+	"github.com/mirabilis-astro/mirabilis/model"
+	"github.com/mirabilis-astro/mirabilis/model/param"
 	"github.com/mirabilis-astro/mirabilis/model/prior"
 )
 
@@ -174,21 +176,21 @@ func (d *fileConfig) fill(c *Config, ps *problems) {
 	if r == nil {
 		r = &fileRotation{}
 	}
-	c.Rotation.Curve = CurveLinear
+	c.Rotation.Curve = model.CurveLinear
 	if len(r.NodeRadii) > 0 {
-		c.Rotation.Curve = CurveNodes // the likely intent, should the name be wrong
+		c.Rotation.Curve = model.CurveNodes // the likely intent, should the name be wrong
 	}
 	if r.Curve != nil {
-		if v, ok := choose(ps, "rotation.curve", *r.Curve, CurveLinear, CurvePower, CurveNodes); ok {
+		if v, ok := choose(ps, "rotation.curve", *r.Curve, model.CurveLinear, model.CurvePower, model.CurveNodes); ok {
 			c.Rotation.Curve = v
 		}
 	}
-	c.Rotation.CoreRadius = orFloat(r.CoreRadius, DefaultCoreRadius)
-	if c.Rotation.Curve == CurveNodes {
+	c.Rotation.CoreRadius = orFloat(r.CoreRadius, model.DefaultCoreRadius)
+	if c.Rotation.Curve == model.CurveNodes {
 		c.Rotation.NodeRadii = append([]float64(nil), r.NodeRadii...)
-		c.Rotation.Interpolation = InterpMonotone
+		c.Rotation.Interpolation = model.MonotoneCubic
 		if r.Interpolation != nil {
-			if v, ok := choose(ps, "rotation.interpolation", *r.Interpolation, InterpMonotone, InterpLinear); ok {
+			if v, ok := choose(ps, "rotation.interpolation", *r.Interpolation, model.MonotoneCubic, model.LinearInterp); ok {
 				c.Rotation.Interpolation = v
 			}
 		}
@@ -219,7 +221,7 @@ func (d *fileConfig) fill(c *Config, ps *problems) {
 		l = &fileLikelihood{}
 	}
 	c.Likelihood = Likelihood{
-		Errors:        ErrorsGaussian,
+		Errors:        model.ErrorsGaussian,
 		StudentDOF:    orFloat(l.StudentDOF, DefaultStudentDOF),
 		DistancePrior: DistanceGalaxy,
 		DistanceRange: [2]float64{DefaultDistanceMin, DefaultDistanceMax},
@@ -231,7 +233,7 @@ func (d *fileConfig) fill(c *Config, ps *problems) {
 		PilotSpread:   copyMap(l.PilotSpread),
 	}
 	if l.ErrorModel != nil {
-		if v, ok := choose(ps, "likelihood.error_model", *l.ErrorModel, ErrorsGaussian, ErrorsTolerant, ErrorsStudent); ok {
+		if v, ok := choose(ps, "likelihood.error_model", *l.ErrorModel, model.ErrorsGaussian, model.ErrorsTolerant, model.ErrorsStudent); ok {
 			c.Likelihood.Errors = v
 		}
 	}
@@ -333,16 +335,16 @@ func (d *fileConfig) fillParams(c *Config, ps *problems) {
 
 // unknownParam explains why a key under [params] is not a parameter.
 func (c *Config) unknownParam(key string, names []string) string {
-	if c.Rotation.Curve == CurveNodes {
-		if key == NameTheta0 {
+	if c.Rotation.Curve == model.CurveNodes {
+		if key == param.Theta0 {
 			return "with curve = \"nodes\", Theta0 is derived: give its prior under [derived_priors]"
 		}
-		if IsNodeName(key) {
+		if param.IsNodeName(key) {
 			n := len(c.Rotation.NodeRadii)
 			return fmt.Sprintf("the nodes curve has %d node radii, so speeds Theta_1 … Theta_%d", n, n)
 		}
 	}
-	for _, curve := range []Curve{CurveLinear, CurvePower, CurveNodes} {
+	for _, curve := range []model.CurveFamily{model.CurveLinear, model.CurvePower, model.CurveNodes} {
 		if curve != c.Rotation.Curve && contains(GlobalNames(curve, 100), key) {
 			return fmt.Sprintf("%s belongs to another rotation curve than %q", key, c.Rotation.Curve)
 		}

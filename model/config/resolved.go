@@ -4,6 +4,8 @@ import (
 	"crypto/sha256"
 	"encoding/hex"
 	"fmt"
+	"github.com/mirabilis-astro/mirabilis/model"
+	"github.com/mirabilis-astro/mirabilis/model/param"
 	"math"
 	"regexp"
 	"strconv"
@@ -44,7 +46,7 @@ func (c *Config) write(forHash bool) []byte {
 	w.table("rotation")
 	w.str("curve", string(c.Rotation.Curve), "linear | power | nodes")
 	w.num("core_radius", c.Rotation.CoreRadius, "kpc, solid-body rise inside")
-	if c.Rotation.Curve == CurveNodes {
+	if c.Rotation.Curve == model.CurveNodes {
 		w.list("node_radii", c.Rotation.NodeRadii, "kpc")
 		w.str("interpolation", string(c.Rotation.Interpolation), "monotone | linear")
 	}
@@ -65,13 +67,13 @@ func (c *Config) write(forHash bool) []byte {
 		w.str("name", a.Name, "")
 		w.num("ref_azimuth", a.RefAzimuth, "deg")
 		w.list("azimuth_range", a.AzimuthRange[:], "deg")
-		w.prior("radius", Param{a.Name + SuffixRref, a.Radius})
-		w.prior("pitch", Param{a.Name + SuffixPitch, a.Pitch})
+		w.prior("radius", Param{a.Name + param.SuffixRref, a.Radius})
+		w.prior("pitch", Param{a.Name + param.SuffixPitch, a.Pitch})
 		if a.Kinked() {
-			w.prior("pitch2", Param{a.Name + SuffixPitch2, a.Pitch2})
-			w.prior("kink", Param{a.Name + SuffixKink, a.Kink})
+			w.prior("pitch2", Param{a.Name + param.SuffixPitch2, a.Pitch2})
+			w.prior("kink", Param{a.Name + param.SuffixKink, a.Kink})
 		}
-		w.prior("width", Param{a.Name + SuffixWidth, a.Width})
+		w.prior("width", Param{a.Name + param.SuffixWidth, a.Width})
 	}
 
 	m := c.Membership
@@ -166,21 +168,21 @@ func (w *tomlWriter) prior(key string, p Param) {
 // unitOf returns the unit of a parameter or derived quantity, "" if none.
 func unitOf(name string) string {
 	switch name {
-	case NameR0:
+	case param.R0:
 		return "kpc"
-	case NameThetaPlusVsun, NameTheta0, NameUsun, NameVsun, NameWsun, NameUs, NameVs, NameWs, NameSigmaVir:
+	case param.ThetaPlusVsun, param.Theta0, param.Usun, param.Vsun, param.Wsun, param.Us, param.Vs, param.Ws, param.SigmaVir:
 		return "km/s"
-	case NameDThetaDR, NameOmegaSun, NameThetaOverR0, NameOortA, NameOortB:
+	case param.DThetaDR, param.OmegaSun, param.ThetaOverR0, param.OortA, param.OortB:
 		return "km/s/kpc"
-	case NameWidthSlope:
+	case param.WidthSlope:
 		return "kpc/kpc"
 	}
 	switch {
-	case IsNodeName(name):
+	case param.IsNodeName(name):
 		return "km/s"
-	case strings.HasSuffix(name, SuffixRref), strings.HasSuffix(name, SuffixWidth), strings.HasSuffix(name, SuffixRsun):
+	case strings.HasSuffix(name, param.SuffixRref), strings.HasSuffix(name, param.SuffixWidth), strings.HasSuffix(name, param.SuffixRsun):
 		return "kpc"
-	case strings.HasSuffix(name, SuffixPitch), strings.HasSuffix(name, SuffixPitch2), strings.HasSuffix(name, SuffixKink):
+	case strings.HasSuffix(name, param.SuffixPitch), strings.HasSuffix(name, param.SuffixPitch2), strings.HasSuffix(name, param.SuffixKink):
 		return "deg"
 	}
 	return ""

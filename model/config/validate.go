@@ -7,6 +7,8 @@ import (
 	"regexp"
 	"strings"
 
+	"github.com/mirabilis-astro/mirabilis/model"
+	"github.com/mirabilis-astro/mirabilis/model/param"
 	"github.com/mirabilis-astro/mirabilis/model/prior"
 )
 
@@ -61,12 +63,12 @@ func unwrapPath(err error) error {
 func (c *Config) validateRotation(ps *problems) {
 	r := c.Rotation
 	switch r.Curve {
-	case CurveLinear, CurvePower, CurveNodes:
+	case model.CurveLinear, model.CurvePower, model.CurveNodes:
 	default:
 		ps.addf("rotation.curve", "%q is not one of \"linear\", \"power\", \"nodes\"", r.Curve)
 	}
 	positive(ps, "rotation.core_radius", r.CoreRadius, "kpc")
-	if r.Curve != CurveNodes {
+	if r.Curve != model.CurveNodes {
 		if len(r.NodeRadii) > 0 {
 			ps.addf("rotation.node_radii", "applies only to curve = \"nodes\" (the curve is %q)", r.Curve)
 		}
@@ -76,7 +78,7 @@ func (c *Config) validateRotation(ps *problems) {
 		return
 	}
 	switch r.Interpolation {
-	case InterpMonotone, InterpLinear:
+	case model.MonotoneCubic, model.LinearInterp:
 	default:
 		ps.addf("rotation.interpolation", "%q is not one of \"monotone\", \"linear\"", r.Interpolation)
 	}
@@ -114,9 +116,9 @@ func (c *Config) validateParams(ps *problems) {
 			continue
 		}
 		switch {
-		case p.Name == NameR0 || p.Name == NameTheta0:
+		case p.Name == param.R0 || p.Name == param.Theta0:
 			mostly(ps, key, p.Prior, 0, math.Inf(1), "positive")
-		case p.Name == NameSigmaVir || IsNodeName(p.Name):
+		case p.Name == param.SigmaVir || param.IsNodeName(p.Name):
 			mostly(ps, key, p.Prior, 0, math.Inf(1), "non-negative")
 		}
 	}
@@ -205,8 +207,8 @@ func (c *Config) validateArms(ps *problems) {
 	}
 	if parallax {
 		for _, p := range c.Params {
-			if p.Name == NameWidthSlope && p.Prior != nil && !p.Prior.IsFixed() {
-				ps.addf("params."+NameWidthSlope, "with distance_prior = \"parallax\" the arms are not fitted: width_slope must be fixed")
+			if p.Name == param.WidthSlope && p.Prior != nil && !p.Prior.IsFixed() {
+				ps.addf("params."+param.WidthSlope, "with distance_prior = \"parallax\" the arms are not fitted: width_slope must be fixed")
 			}
 		}
 	}
@@ -225,7 +227,7 @@ func (c *Config) validateMembership(ps *problems) {
 func (c *Config) validateLikelihood(ps *problems) {
 	l := c.Likelihood
 	switch l.Errors {
-	case ErrorsGaussian, ErrorsTolerant, ErrorsStudent:
+	case model.ErrorsGaussian, model.ErrorsTolerant, model.ErrorsStudent:
 	default:
 		ps.addf("likelihood.error_model", "%q is not one of \"gaussian\", \"tolerant\", \"student\"", l.Errors)
 	}

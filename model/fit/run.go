@@ -15,6 +15,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
 	"github.com/mirabilis-astro/mirabilis/mcmc"
 	"github.com/mirabilis-astro/mirabilis/model"
 	"github.com/mirabilis-astro/mirabilis/model/catalog"
@@ -144,36 +145,12 @@ func ReadManifest(dir string) (*Manifest, error) {
 	return &m, nil
 }
 
-// WriteFileAtomic writes data to path through a temporary file in the same folder, synced
-// and renamed over path, so that path holds either its old or its new content.
-func WriteFileAtomic(path string, data []byte) error {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp-*")
-	if err != nil {
-		return err
-	}
-	tmp := f.Name()
-	_, err = f.Write(data)
-	if err == nil {
-		err = f.Sync()
-	}
-	if cerr := f.Close(); err == nil {
-		err = cerr
-	}
-	if err == nil {
-		err = os.Rename(tmp, path)
-	}
-	if err != nil {
-		os.Remove(tmp)
-	}
-	return err
-}
-
 func writeJSON(path string, v any) error {
 	data, err := json.MarshalIndent(v, "", "  ")
 	if err != nil {
 		return err
 	}
-	return WriteFileAtomic(path, append(data, '\n'))
+	return atomicfile.Write(path, append(data, '\n'))
 }
 
 func now() string { return time.Now().UTC().Format(time.RFC3339) }
@@ -208,7 +185,7 @@ func Fit(ctx context.Context, cfg *config.Config, opts Options) (*Outcome, error
 	if m, err := ReadManifest(dir); err == nil {
 		refineUntil = m.RefineUntil
 	}
-	logFile, err := os.OpenFile(filepath.Join(dir, LogFile), os.O_CREATE|os.O_APPEND|os.O_WRONLY, 0o644)
+	logFile, err := atomicfile.OpenAppend(filepath.Join(dir, LogFile))
 	if err != nil {
 		return nil, err
 	}
@@ -274,10 +251,10 @@ func claimDir(dir string, cfg *config.Config, catHash string, refineUntil int, o
 	}
 	// A new run directory, made under a temporary name and renamed into place.
 	parent := filepath.Dir(dir)
-	if err := os.MkdirAll(parent, 0o755); err != nil {
+	if err := atomicfile.MkdirAll(parent); err != nil {
 		return false, err
 	}
-	tmp, err := os.MkdirTemp(parent, "."+filepath.Base(dir)+".new-*")
+	tmp, err := atomicfile.MkdirTemp(parent, "."+filepath.Base(dir)+".new-*")
 	if err != nil {
 		return false, err
 	}
@@ -297,7 +274,7 @@ func claimDir(dir string, cfg *config.Config, catHash string, refineUntil int, o
 }
 
 func writeConfig(dir string, cfg *config.Config) error {
-	return WriteFileAtomic(filepath.Join(dir, ConfigFile), cfg.Resolved())
+	return atomicfile.Write(filepath.Join(dir, ConfigFile), cfg.Resolved())
 }
 
 func updateManifest(dir string, f func(m *Manifest)) error {

@@ -5,12 +5,14 @@ import (
 	"encoding/csv"
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"path/filepath"
 	"slices"
 	"strconv"
 	"strings"
 	"text/tabwriter"
 
+	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
 	"github.com/mirabilis-astro/mirabilis/mcmc"
 	"github.com/mirabilis-astro/mirabilis/model"
 )
@@ -34,13 +36,23 @@ type Quantity struct {
 	Hi95   float64 `json:"hi95"`
 	Mean   float64 `json:"mean"`
 	SD     float64 `json:"sd"`
-	// MAP is the value at the maximum a posteriori point (NaN when unknown).
+	// MAP is the value at the highest posterior point the pilot stage found (NaN when
+	// unknown): the maximum a posteriori point when Summary.MAPConverged.
 	MAP float64 `json:"map"`
-	// Tau is the integrated autocorrelation time in steps and ESS the effective sample size.
+	// Tau is the integrated autocorrelation time in steps and ESS the effective sample size
+	// N/τ.
 	Tau float64 `json:"tau"`
 	ESS float64 `json:"ess"`
-	// Prior is the prior expression of a sampled parameter ("" for derived quantities).
-	Prior string `json:"prior,omitempty"`
+	// Rhat is the rank-normalised split-R̂ and ESSBulk and ESSTail the bulk and tail
+	// effective sample sizes of Vehtari et al. (2021, Bayesian Analysis 16, 667), each
+	// walker counted as one chain (NaN for a constant series).
+	Rhat    float64 `json:"rhat"`
+	ESSBulk float64 `json:"ess_bulk"`
+	ESSTail float64 `json:"ess_tail"`
+	// Prior is the prior stated for a sampled parameter ("" for derived quantities). It is
+	// the parameter's effective prior only when no prior is put on a derived quantity:
+	// priors on derived quantities multiply the parameters' own (see Summary.DerivedPriors).
+	Prior string `json:"stated_prior,omitempty"`
 }
 
 // SourceResult is the posterior of one source.
@@ -61,8 +73,9 @@ type SourceResult struct {
 	Beta float64 `json:"beta"`
 	// InnerProb is the probability that the source lies inside R_inner.
 	InnerProb float64 `json:"inner_prob"`
-	// U, V, W (km/s) is the peculiar motion relative to circular rotation at the median
-	// distance, with its spread over posterior draws; NaN unless all kinematics are measured.
+	// U, V, W (km/s) is the posterior mean peculiar motion relative to circular rotation,
+	// and USD, VSD, WSD its standard deviation, over posterior draws each at a distance drawn
+	// from that draw's distance posterior; NaN unless all kinematics are measured.
 	U, V, W          float64 `json:"-"`
 	USD, VSD, WSD    float64 `json:"-"`
 	PeculiarMeasured bool    `json:"peculiar_measured"`
@@ -81,11 +94,18 @@ type Summary struct {
 	Acceptance float64 `json:"acceptance"`
 	MaxTau     float64 `json:"max_tau"`
 	TauOK      bool    `json:"tau_reliable"`
-	Stuck      []int   `json:"stuck_walkers"`
+	// MAPConverged says whether the pilot stage's search for the maximum a posteriori
+	// point converged; when it did not, the MAP column is only the best point found.
+	MAPConverged bool  `json:"map_converged"`
+	Stuck        []int `json:"stuck_walkers"`
 	Sampling
 	Params     []Quantity `json:"parameters"`
 	Derived    []Quantity `json:"derived"`
 	Components []string   `json:"components"`
+	// DerivedPriors lists the priors put on derived quantities ("Omega_sun ~ normal(…)").
+	// Each multiplies the priors of the parameters it depends on, so that their effective
+	// prior is not the one stated for each.
+	DerivedPriors []string `json:"derived_priors,omitempty"`
 	// MedianValues are the posterior medians of every parameter (fixed ones included) by
 	// name: the "median model" used for figures and source positions.
 	MedianValues map[string]float64 `json:"median_values"`
@@ -241,6 +261,10 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 	var mapVals, mapDer map[string]float64
 	if pilot != nil {
 		mapVals, mapDer = job.values(pilot.MAP)
+		s.MAPConverged = pilot.MAPConverged
+	}
+	for _, p := range cfg.DerivedPriors {
+		s.DerivedPriors = append(s.DerivedPriors, p.Name+" ~ "+p.Prior.String())
 	}
 	free := map[string]string{}
 	for i, name := range job.Config.ParamNames() {
@@ -267,6 +291,7 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 		// τ is NaN for a constant or too short series, and so is the ESS then.
 		qt.Tau, _ = mcmc.AutocorrTime(series[q], 5)
 		qt.ESS = float64(n*W) / qt.Tau
+		qt.Rhat, qt.ESSBulk, qt.ESSTail = mcmc.SplitRhat(series[q]), mcmc.BulkESS(series[q]), mcmc.TailESS(series[q])
 		if q < len(paramNames) {
 			if pr, ok := free[name]; ok || isFraction(name) {
 				qt.Prior = pr
@@ -375,9 +400,13 @@ func describe(name string, x []float64) Quantity {
 	return q
 }
 
+// peculiarSeed seeds the distance draws of the peculiar motions (one stream per source).
+const peculiarSeed = 0x7065630a
+
 // SourceResults returns each source's posterior, averaged over the parameter sets draws
 // (memberships averaged; distance masses pooled on the source's fixed nodes; peculiar
-// motions at the pooled median distance), with positions under the median parameters.
+// motions at one distance per draw, drawn from that draw's distance posterior), with
+// positions under the median parameters.
 func SourceResults(job *Job, draws []*model.Params, median *model.Params) []SourceResult {
 	L, spec := job.Like, job.Spec
 	nc := spec.NumComponents()
@@ -390,11 +419,13 @@ func SourceResults(job *Job, draws []*model.Params, median *model.Params) []Sour
 		if src.Label > 0 {
 			r.Label = spec.Arms[src.Label-1].Name
 		}
-		d := L.NodeDistances(i)
+		d, w := L.NodeDistances(i), L.Layout(i).Weights()
 		pooled := make([]float64, len(d))
 		memb := make([]float64, nc)
+		posts := make([]*model.DistancePosterior, len(draws))
+		motions := make([]*model.Motion, len(draws))
 		var mass []float64
-		for _, p := range draws {
+		for k, p := range draws {
 			L.SourceDetail(i, p, memb)
 			for m := range memb {
 				r.Membership[m] += memb[m] / float64(len(draws))
@@ -403,6 +434,7 @@ func SourceResults(job *Job, draws []*model.Params, median *model.Params) []Sour
 			for j := range mass {
 				pooled[j] += mass[j] / float64(len(draws))
 			}
+			posts[k], motions[k] = model.NewDistancePosterior(d, w, mass), p.Motion
 		}
 		best := 0
 		for m := range r.Membership {
@@ -411,9 +443,8 @@ func SourceResults(job *Job, draws []*model.Params, median *model.Params) []Sour
 			}
 		}
 		r.Best = spec.ComponentName(best)
-		r.Distance = model.MassQuantile(d, pooled, 0.5)
-		r.DistanceLo = model.MassQuantile(d, pooled, 0.16)
-		r.DistanceHi = model.MassQuantile(d, pooled, 0.84)
+		dp := model.NewDistancePosterior(d, w, pooled)
+		r.Distance, r.DistanceLo, r.DistanceHi = dp.Quantile(0.5), dp.Quantile(0.16), dp.Quantile(0.84)
 		R, cb, sb := src.Sight.InPlane(median.Motion.R0(), r.Distance)
 		r.R, r.Beta = R, math.Atan2(sb, cb)*180/math.Pi
 		for j := range d {
@@ -422,12 +453,14 @@ func SourceResults(job *Job, draws []*model.Params, median *model.Params) []Sour
 			}
 		}
 		r.U, r.V, r.W, r.USD, r.VSD, r.WSD = math.NaN(), math.NaN(), math.NaN(), math.NaN(), math.NaN(), math.NaN()
-		if src.HasV && src.HasPM[0] && src.HasPM[1] {
+		// One distance per draw, from that draw's own distance posterior, so that the
+		// spread carries the distance's uncertainty as well as the parameters'.
+		rng := rand.New(rand.NewPCG(peculiarSeed, uint64(i)))
+		if uvw, ok := model.PeculiarDraws(src, motions, posts, rng); ok {
 			r.PeculiarMeasured = true
-			var us, vs, ws []float64
-			for _, p := range draws {
-				uvw, _ := src.PeculiarMotion(p.Motion, r.Distance)
-				us, vs, ws = append(us, uvw.U), append(vs, uvw.V), append(ws, uvw.W)
+			us, vs, ws := make([]float64, len(uvw)), make([]float64, len(uvw)), make([]float64, len(uvw))
+			for k, v := range uvw {
+				us[k], vs[k], ws[k] = v.U, v.V, v.W
 			}
 			r.U, r.USD = meanSD(us)
 			r.V, r.VSD = meanSD(vs)
@@ -496,15 +529,34 @@ func (s *Summary) Text() string {
 	if len(s.Stuck) > 0 {
 		fmt.Fprintf(&b, "Walkers that look stuck: %v\n", s.Stuck)
 	}
-	fmt.Fprintf(&b, "Distance quadrature: %d nodes per source (median; %d to %d)\n\n",
+	fmt.Fprintf(&b, "Distance quadrature: %d nodes per source (median; %d to %d)\n",
 		s.Quadrature.MedianNodes, s.Quadrature.MinNodes, s.Quadrature.MaxNodes)
+	mapColumn := "MAP"
+	if !s.MAPConverged {
+		mapColumn = "best found"
+		fmt.Fprintln(&b, "The search for the maximum a posteriori point did not converge: the column \"best found\" is the highest point it reached, not a maximum.")
+	}
+	if len(s.DerivedPriors) > 0 {
+		fmt.Fprintf(&b, "Priors on derived quantities (%s) multiply the parameters' own priors: the effective prior of each parameter they depend on is not the one stated for it.\n",
+			strings.Join(s.DerivedPriors, "; "))
+	}
+	var highRhat []string
+	for _, q := range append(append([]Quantity(nil), s.Params...), s.Derived...) {
+		if q.Rhat > RhatLimit {
+			highRhat = append(highRhat, q.Name)
+		}
+	}
+	if len(highRhat) > 0 {
+		fmt.Fprintf(&b, "R̂ above %g (walkers disagree; run longer): %s\n", RhatLimit, strings.Join(highRhat, ", "))
+	}
+	fmt.Fprintln(&b)
 	table := func(title string, qs []Quantity) {
 		fmt.Fprintln(&b, title)
 		tw := tabwriter.NewWriter(&b, 0, 0, 2, ' ', tabwriter.AlignRight)
-		fmt.Fprintln(tw, "quantity\tmedian\t−68%\t+68%\t95% interval\tMAP\tτ\tESS\t")
+		fmt.Fprintf(tw, "quantity\tmedian\t−68%%\t+68%%\t95%% interval\t%s\tτ\tESS\tbulk ESS\ttail ESS\tR̂\t\n", mapColumn)
 		for _, q := range qs {
-			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t[%s, %s]\t%s\t%s\t%s\t\n", q.Name, num(q.Median), num(q.Median-q.Lo68), num(q.Hi68-q.Median),
-				num(q.Lo95), num(q.Hi95), num(q.MAP), fixed1(q.Tau), fixed0(q.ESS))
+			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t[%s, %s]\t%s\t%s\t%s\t%s\t%s\t%s\t\n", q.Name, num(q.Median), num(q.Median-q.Lo68), num(q.Hi68-q.Median),
+				num(q.Lo95), num(q.Hi95), num(q.MAP), fixed1(q.Tau), fixed0(q.ESS), fixed0(q.ESSBulk), fixed0(q.ESSTail), fixed3(q.Rhat))
 		}
 		tw.Flush()
 		fmt.Fprintln(&b)
@@ -556,6 +608,17 @@ func fixed1(x float64) string {
 	return strconv.FormatFloat(x, 'f', 1, 64)
 }
 
+func fixed3(x float64) string {
+	if math.IsNaN(x) {
+		return "–"
+	}
+	return strconv.FormatFloat(x, 'f', 3, 64)
+}
+
+// RhatLimit is the split-R̂ above which a quantity is reported as not converged, the
+// threshold recommended by Vehtari et al. (2021, Bayesian Analysis 16, 667).
+const RhatLimit = 1.01
+
 func fixed0(x float64) string {
 	if math.IsNaN(x) {
 		return "–"
@@ -594,14 +657,14 @@ func (s *Summary) SourcesTable() []byte {
 
 // Write writes the summary's files into a run directory, each atomically.
 func (s *Summary) Write(dir string) error {
-	if err := WriteFileAtomic(filepath.Join(dir, SummaryText), []byte(s.Text())); err != nil {
+	if err := atomicfile.Write(filepath.Join(dir, SummaryText), []byte(s.Text())); err != nil {
 		return err
 	}
-	if err := WriteFileAtomic(filepath.Join(dir, SourcesCSV), s.SourcesTable()); err != nil {
+	if err := atomicfile.Write(filepath.Join(dir, SourcesCSV), s.SourcesTable()); err != nil {
 		return err
 	}
 	if s.samples != nil {
-		if err := WriteFileAtomic(filepath.Join(dir, SamplesCSV), s.samples); err != nil {
+		if err := atomicfile.Write(filepath.Join(dir, SamplesCSV), s.samples); err != nil {
 			return err
 		}
 	}
