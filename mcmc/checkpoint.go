@@ -75,6 +75,9 @@ type Tuning struct {
 	// never), WindowJumps and WindowEvaluations the sums of the window in
 	// progress (see Settings.AdaptWeights).
 	Rates, WindowJumps, WindowEvaluations []float64
+	// Costs are the evaluations per step last measured (NaN when never),
+	// WindowSteps the steps of the window in progress.
+	Costs, WindowSteps []float64
 	// Evaluations and TunedEvaluations are as in Result; Seconds is the
 	// sampling time so far.
 	Evaluations, TunedEvaluations int64
@@ -84,7 +87,7 @@ type Tuning struct {
 func (t *Tuning) encode(e *encoder) {
 	e.uint(uint64(t.Steps))
 	e.bool(t.Adapt)
-	for _, f := range [][]float64{t.Widths, t.Weights, t.Rates, t.WindowJumps, t.WindowEvaluations, {t.Seconds}} {
+	for _, f := range [][]float64{t.Widths, t.Weights, t.Rates, t.WindowJumps, t.WindowEvaluations, t.Costs, t.WindowSteps, {t.Seconds}} {
 		e.floats(f)
 	}
 	e.uint(uint64(t.Evaluations))
@@ -95,6 +98,7 @@ func (t *Tuning) decode(d *decoder) {
 	t.Steps, t.Adapt = d.int(), d.bool()
 	t.Widths, t.Weights, t.Rates = d.floats(), d.floats(), d.floats()
 	t.WindowJumps, t.WindowEvaluations = d.floats(), d.floats()
+	t.Costs, t.WindowSteps = d.floats(), d.floats()
 	if sec := d.floats(); len(sec) == 1 {
 		t.Seconds = sec[0]
 	} else if d.err == nil {

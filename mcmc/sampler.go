@@ -200,6 +200,8 @@ type sampler struct {
 	rate       []float64 // per move: squared jump per evaluation (NaN: never measured)
 	winJump    []float64 // per move: squared jumps in the current window
 	winEval    []float64 // per move: evaluations in the current window
+	cost       []float64 // per move: evaluations per step (NaN: never measured)
+	winSteps   []float64 // per move: steps in the current window
 	adapting   bool      // weights adapt in this step
 	moveIdx    int       // the move of this step
 
@@ -255,12 +257,14 @@ func newSampler(p Problem, set Settings) *sampler {
 	s.rate = make([]float64, len(set.Moves))
 	s.winJump = make([]float64, len(set.Moves))
 	s.winEval = make([]float64, len(set.Moves))
+	s.cost = make([]float64, len(set.Moves))
+	s.winSteps = make([]float64, len(set.Moves))
 	for k, m := range set.Moves {
 		w[k] = m.Weight / total
 		if sm, ok := m.Move.(sliceMove); ok {
 			s.width[k] = sm.width()
 		}
-		s.rate[k] = math.NaN()
+		s.rate[k], s.cost[k] = math.NaN(), math.NaN()
 	}
 	s.setWeights(w)
 	s.nEval = make([]int64, s.nw)
@@ -762,6 +766,7 @@ func (s *sampler) tune() {
 	if s.adapting {
 		s.winJump[k] += jump
 		s.winEval[k] += float64(evals)
+		s.winSteps[k]++
 		window := max(1, s.set.TuneSteps/5)
 		if last := s.step == s.set.TuneSteps; last || s.step%window == 0 {
 			s.adaptWeights(last)
@@ -779,29 +784,34 @@ func (s *sampler) adaptWeights(last bool) {
 	for k := range s.rate {
 		if s.winEval[k] > 0 {
 			s.rate[k] = s.winJump[k] / s.winEval[k]
+			s.cost[k] = s.winEval[k] / s.winSteps[k]
 		}
-		s.winJump[k], s.winEval[k] = 0, 0
+		s.winJump[k], s.winEval[k], s.winSteps[k] = 0, 0, 0
 	}
-	var mean float64
-	var known int
-	for _, r := range s.rate {
-		if !math.IsNaN(r) {
-			mean += r
-			known++
+	meanOf := func(x []float64) float64 {
+		var m float64
+		var known int
+		for _, v := range x {
+			if !math.IsNaN(v) {
+				m += v
+				known++
+			}
 		}
+		return m / float64(known)
 	}
-	if known == 0 || !(mean > 0) {
+	meanRate, meanCost := meanOf(s.rate), meanOf(s.cost)
+	if !(meanRate > 0) || !(meanCost > 0) {
 		return
 	}
-	mean /= float64(known)
 	w := make([]float64, n)
 	var total float64
 	for k, r := range s.rate {
+		c := s.cost[k]
 		if math.IsNaN(r) {
-			r = mean
+			r, c = meanRate, meanCost
 		}
-		w[k] = r
-		total += r
+		w[k] = r / c
+		total += w[k]
 	}
 	for k := range w {
 		w[k] /= total
@@ -1014,6 +1024,7 @@ func (s *sampler) saveTuning() Tuning {
 		Steps: s.set.TuneSteps, Adapt: s.set.AdaptWeights,
 		Widths: s.width, Weights: s.weights, Rates: s.rate,
 		WindowJumps: s.winJump, WindowEvaluations: s.winEval,
+		Costs: s.cost, WindowSteps: s.winSteps,
 		Evaluations: s.evals, TunedEvaluations: s.tunedEvals, Seconds: s.elapsed(),
 	}
 }
@@ -1022,13 +1033,16 @@ func (s *sampler) saveTuning() Tuning {
 func (s *sampler) restoreTuning(ck *Checkpoint) error {
 	t := ck.Tuning
 	n := len(s.set.Moves)
-	if len(t.Widths) != n || len(t.Weights) != n || len(t.Rates) != n || len(t.WindowJumps) != n || len(t.WindowEvaluations) != n {
+	if len(t.Widths) != n || len(t.Weights) != n || len(t.Rates) != n || len(t.WindowJumps) != n ||
+		len(t.WindowEvaluations) != n || len(t.Costs) != n || len(t.WindowSteps) != n {
 		return fmt.Errorf("tuning state for %d moves, settings have %d", len(t.Widths), n)
 	}
 	copy(s.width, t.Widths)
 	copy(s.rate, t.Rates)
 	copy(s.winJump, t.WindowJumps)
 	copy(s.winEval, t.WindowEvaluations)
+	copy(s.cost, t.Costs)
+	copy(s.winSteps, t.WindowSteps)
 	s.setWeights(append([]float64(nil), t.Weights...))
 	s.evals, s.tunedEvals, s.seconds = t.Evaluations, t.TunedEvaluations, t.Seconds
 	return nil

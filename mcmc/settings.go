@@ -77,16 +77,18 @@ type Settings struct {
 	TuneSteps int
 	// AdaptWeights makes the move weights adapt during the first TuneSteps
 	// steps: the tuning period is cut into five windows, and at the end of
-	// each the weights are set in proportion to each move's expected
-	// squared jump distance per log-density evaluation in that window
-	// (Pasarica & Gelman 2010, Stat. Sinica 20, 343, use the expected
-	// squared jump distance to rank proposals), the jump of each parameter
-	// measured in units of its spread over the ensemble. Until the last
-	// window every move keeps a share of at least 0.1/(number of moves) so
-	// that it is still measured; after the last, the weights are
-	// proportional to the measured rates and frozen. A move never used in
-	// a window keeps its previous rate; a move never measured gets the mean
-	// rate of the others.
+	// each the weights are set so that each move's share of the
+	// log-density evaluations is proportional to its expected squared jump
+	// distance per evaluation in that window (Pasarica & Gelman 2010, Stat.
+	// Sinica 20, 343, use the expected squared jump distance to rank
+	// proposals), the jump of each parameter measured in units of its
+	// spread over the ensemble: the weight of move k is proportional to
+	// r_k/e_k, r_k being its squared jump per evaluation and e_k its
+	// evaluations per step. Until the last window every move keeps a
+	// weight of at least 0.1/(number of moves) so that it is still
+	// measured; after the last, the weights are frozen. A move never used
+	// in a window keeps its previous measurements; a move never measured
+	// gets the mean of the others.
 	AdaptWeights bool
 
 	// Steps is the total length of the chain in steps, counted from the

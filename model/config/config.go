@@ -189,10 +189,10 @@ type Sampler struct {
 	// Moves are the relative weights of the proposal moves. Default
 	// DefaultMoves.
 	Moves Moves
-	// AdaptWeights lets the move weights adapt during burn-in (in
-	// proportion to each move's squared jump per likelihood evaluation),
-	// starting from Moves; they are frozen afterwards. False keeps the
-	// weights of Moves. Default true.
+	// AdaptWeights lets the move weights adapt during burn-in (each move's
+	// share of the likelihood evaluations in proportion to its squared jump
+	// per evaluation), starting from Moves; they are frozen afterwards.
+	// False keeps the weights of Moves. Default true.
 	AdaptWeights bool
 	// MinESS is the effective sample size every parameter must reach after
 	// burn-in before a run with Steps = 0 stops. Default 1000.

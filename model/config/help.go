@@ -133,7 +133,7 @@ TOP LEVEL
                     slice moves tune their interval widths and the move
                     weights adapt (both frozen afterwards). Default steps/4;
                     with steps = 0, 0 means a quarter of the final length,
-                    and the tuning takes min(1000, max_steps/4) steps.
+                    and the tuning takes max_steps/10 steps.
   seed              seed of the random streams; the same seed gives the same
                     chain whatever the number of threads. Default 1.
   threads           0 uses every core. Default 0.
@@ -145,11 +145,11 @@ TOP LEVEL
                     and gaussian_slice (Karamanis & Beutler 2021), which
                     cost a varying number of likelihood evaluations per
                     step. Default { differential_slice = 1 }: see below.
-  adapt_weights     true lets the weights adapt during burn-in, in
-                    proportion to each move's squared jump per likelihood
-                    evaluation; they are frozen after burn-in and reported
-                    in summary.txt and summary.json. false keeps the weights
-                    given. Default true.
+  adapt_weights     true lets the weights adapt during burn-in, so that
+                    each move's share of the likelihood evaluations is in
+                    proportion to its squared jump per evaluation; they are
+                    frozen after burn-in and reported in summary.txt and
+                    summary.json. false keeps the weights given. Default true.
   min_ess           with steps = 0, the effective sample size every
                     parameter must reach after burn-in. Default 1000.
   stretch_scale     a > 1 of the stretch move. Default 2.

@@ -161,7 +161,7 @@ func now() string { return time.Now().UTC().Format(time.RFC3339) }
 // name and renamed); a finished run is not overwritten without Force; Resume continues a
 // stopped run exactly, and is refused if the configuration or the catalog changed.
 func Fit(ctx context.Context, cfg *config.Config, opts Options) (*Outcome, error) {
-	refineUntil := burnLimit(cfg.Sampler)
+	refineUntil := TuneSteps(cfg.Sampler)
 	if err := opts.Apply(cfg); err != nil {
 		return nil, err
 	}
@@ -287,18 +287,6 @@ func updateManifest(dir string, f func(m *Manifest)) error {
 	return writeJSON(filepath.Join(dir, ManifestFile), m)
 }
 
-// burnLimit is the last step at which the quadratures may still be refined.
-func burnLimit(s config.Sampler) int {
-	switch {
-	case s.Burn > 0:
-		return s.Burn
-	case s.Steps > 0:
-		return s.Steps / 4
-	default:
-		return s.MaxSteps / 10
-	}
-}
-
 // monitorSources is how many sources the quadrature monitor checks at each checkpoint.
 const monitorSources = 64
 
@@ -307,8 +295,10 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 	ckPath := filepath.Join(dir, CheckpointFile)
 	out := &Outcome{Dir: dir, Job: job}
 	var pilot *PilotResult
+	tune := limit
 	if resuming {
 		if ck, err := mcmc.LoadCheckpoint(ckPath); err == nil {
+			tune = ck.Tuning.Steps // fixed when the run began, whatever --steps says now
 			if err := job.Like.UnmarshalLayouts(ck.Extra); err != nil {
 				return nil, fmt.Errorf("%s: %w", ckPath, err)
 			}
@@ -354,7 +344,7 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 		Seed:            cfg.Sampler.Seed,
 		Threads:         cfg.Sampler.Threads,
 		Moves:           moves(cfg.Sampler),
-		TuneSteps:       TuneSteps(cfg.Sampler),
+		TuneSteps:       tune,
 		AdaptWeights:    cfg.Sampler.AdaptWeights,
 		Steps:           cfg.Sampler.Steps,
 		ChainPath:       filepath.Join(dir, ChainFile),
@@ -503,10 +493,11 @@ func moves(s config.Sampler) []mcmc.WeightedMove {
 	return out
 }
 
-// TuneSteps returns the number of steps during which the sampler tunes its
-// slice widths and adapts its move weights: the burn-in, or with no burn-in
-// given a quarter of the steps, or min(1000, max_steps/4) for a run that
-// stops on its own. Summaries leave at least these steps out.
+// TuneSteps returns the burn-in during which the sampler tunes its slice widths and adapts
+// its move weights, and the quadratures may still be refined: the configuration's burn,
+// or with none a quarter of the steps, or max_steps/10 for a run that stops on its own.
+// A run takes it from its configuration before any --steps (a resumed run keeps its
+// checkpoint's), and summaries leave at least these steps out.
 func TuneSteps(s config.Sampler) int {
 	switch {
 	case s.Burn > 0:
@@ -514,5 +505,5 @@ func TuneSteps(s config.Sampler) int {
 	case s.Steps > 0:
 		return s.Steps / 4
 	}
-	return min(1000, s.MaxSteps/4)
+	return s.MaxSteps / 10
 }

@@ -221,7 +221,11 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 	if burn == 0 {
 		burn = rows / 4
 	}
-	burn = min(max(burn, TuneSteps(cfg.Sampler)), rows-2) // the tuning steps are never summarised
+	tune := TuneSteps(cfg.Sampler)
+	if res != nil {
+		tune = res.TuneSteps
+	}
+	burn = min(max(burn, tune), rows-2) // the tuning steps are never summarised
 	W := chain.Walkers()
 	s := &Summary{Steps: chain.Step[rows-1], Walkers: W, Burn: burn, Components: components(job.Spec)}
 	if res != nil {
