@@ -222,7 +222,7 @@ type Moves struct {
 // DefaultMoves are the move weights of a configuration that gives none,
 // chosen from measurements of effective samples per likelihood evaluation on
 // the demo galaxy and on mock catalogs (see HelpText).
-var DefaultMoves = Moves{DiffSlice: 1}
+var DefaultMoves = Moves{DiffEvolution: 1, DiffSlice: 1}
 
 // GlobalNames returns the names of the global parameters for a curve with
 // nodes rotation-curve nodes (ignored unless curve is model.CurveNodes), in the
