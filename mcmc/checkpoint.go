@@ -39,8 +39,9 @@ type Checkpoint struct {
 	Accepted []int
 	// Kept is the number of kept steps written to the chain file.
 	Kept int
-	// ChainBytes is the chain file's length at the checkpoint and ChainCRC
-	// the CRC-32C (Castagnoli) of those bytes.
+	// ChainBytes is the chain file's length at the checkpoint, header
+	// included, and ChainCRC the CRC-32C (Castagnoli) of its rows (the bytes
+	// after the header, which is rewritten as rows are added).
 	ChainBytes int64
 	ChainCRC   uint32
 	// LastTau is the autocorrelation time per parameter, in steps, at the

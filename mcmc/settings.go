@@ -126,11 +126,10 @@ type Settings struct {
 	// a checkpoint and returns with Status TimeLimit. Zero means none.
 	MaxDuration time.Duration
 
-	// ChainPath is the chain file (CSV, see the package documentation).
-	// Empty means no file: the chain is kept in memory only.
+	// ChainPath is the chain file (a NumPy .npy file, see the package
+	// documentation), to which kept steps are streamed; the chain is then not
+	// held in memory. Empty means no file: the chain is kept in memory only.
 	ChainPath string
-	// Comments are written as '#' lines at the top of a new chain file.
-	Comments []string
 	// CheckpointPath is the checkpoint file. Empty means no checkpoint
 	// file; a checkpoint file needs a chain file.
 	CheckpointPath string
@@ -148,6 +147,10 @@ type Settings struct {
 	// OnCheckpoint, if not nil, is called at every checkpoint before the
 	// checkpoint is written; see CheckpointEvent and CheckpointReply.
 	OnCheckpoint func(CheckpointEvent) (CheckpointReply, error)
+	// AfterCheckpoint, if not nil, is called once the checkpoint file of the
+	// given step is safely on disk, for example to record the step where a
+	// resumed run would continue. An error stops the run.
+	AfterCheckpoint func(step int) error
 
 	// Progress, if not nil, is called every ProgressEvery steps and once
 	// at the end of the run.

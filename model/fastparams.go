@@ -201,7 +201,12 @@ type state struct {
 	frac      []float64
 	logFrac   []float64
 	cross     []arms.Crossing
-	terms     []float64 // per-source ln L_i of a parallel evaluation
+	terms     []float64 // per-source ln L_i of a shared evaluation
+
+	// The block of sources one worker evaluates in a shared evaluation, made once per state.
+	block   func(worker, b int)
+	like    *Likelihood
+	errKind int
 
 	// The reference parameter set, built only when a source needs the reference path.
 	post   *Posterior

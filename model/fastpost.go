@@ -3,6 +3,8 @@ package model
 import (
 	"math"
 	"sync"
+
+	"github.com/mirabilis-astro/mirabilis/internal/workpool"
 )
 
 // logDensityIndexed is LogDensity by index: the free parameters' priors, the fractions'
@@ -50,7 +52,9 @@ const sourceBlock = 32
 var nodeScratches = sync.Pool{New: func() any { return new(nodeScratch) }}
 
 // logLShared returns Σ ln L_i under the parameter set of st, sharing blocks of sources
-// among workers goroutines when there are enough sources to be worth it.
+// among up to workers goroutines of the worker pool when there are two blocks or more.
+// Each source's term is written to its slot and the terms are added in source order, the
+// same additions as the single-threaded loop.
 func (L *Likelihood) logLShared(st *state, ek int, workers int) float64 {
 	n := len(L.Sources)
 	blocks := (n + sourceBlock - 1) / sourceBlock
@@ -62,14 +66,18 @@ func (L *Likelihood) logLShared(st *state, ek int, workers int) float64 {
 	if cap(st.terms) < n {
 		st.terms = make([]float64, n)
 	}
-	terms := st.terms[:n]
-	Parallel(blocks, workers, func(b int) {
-		ns := nodeScratches.Get().(*nodeScratch)
-		L.logLIndexed(st, ek, ns, b*sourceBlock, min(n, (b+1)*sourceBlock), terms)
-		nodeScratches.Put(ns)
-	})
+	st.terms = st.terms[:n]
+	st.like, st.errKind = L, ek
+	if st.block == nil {
+		st.block = func(_, b int) {
+			ns := nodeScratches.Get().(*nodeScratch)
+			st.like.logLIndexed(st, st.errKind, ns, b*sourceBlock, min(len(st.terms), (b+1)*sourceBlock), st.terms)
+			nodeScratches.Put(ns)
+		}
+	}
+	workpool.Run(workers, blocks, st.block)
 	var total float64
-	for i, v := range terms {
+	for i, v := range st.terms {
 		if !L.Excluded[i] {
 			total += v
 		}

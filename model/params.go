@@ -7,7 +7,6 @@ import (
 	"fmt"
 	"io"
 	"os"
-	"strings"
 
 	"github.com/mirabilis-astro/mirabilis/model/param"
 )
@@ -175,30 +174,45 @@ func checkUnusedParam(name string, fam CurveFamily, nNodes int) error {
 	return fmt.Errorf("unknown parameter %q", name)
 }
 
-// IsModelParameterName reports whether name is a parameter or derived-quantity name of the
-// model: the kinematic names (R0, Theta0, dTheta_dR, alpha, Theta_j, Usun, Vsun, Wsun, Us,
-// Vs, Ws), sigma_vir, width_slope, f_field, the derived Omega_sun, Theta0_over_R0,
-// Theta0_plus_Vsun, Oort_A, Oort_B, and for an arm NAME: NAME_Rref, NAME_pitch, NAME_pitch2,
-// NAME_kink, NAME_width, NAME_Rsun and f_NAME.
-func IsModelParameterName(name string) bool {
-	switch name {
-	case param.R0, param.Theta0, param.DThetaDR, param.Alpha, param.Usun, param.Vsun, param.Wsun,
-		param.Us, param.Vs, param.Ws, "sigma_vir", "width_slope", "f_field",
-		"Omega_sun", "Theta0_over_R0", "Theta0_plus_Vsun", "Oort_A", "Oort_B":
-		return true
-	}
-	if param.IsNodeName(name) {
-		return true
-	}
-	if arm, ok := strings.CutPrefix(name, "f_"); ok && arm != "" {
-		return true
-	}
-	for _, suffix := range []string{"_Rref", "_pitch", "_pitch2", "_kink", "_width", "_Rsun"} {
-		if arm, ok := strings.CutSuffix(name, suffix); ok && arm != "" {
-			return true
+// IsModelParameterName reports whether name has the form of a parameter or derived-quantity
+// name of some model (see param.CouldBe): a global or derived name, a node speed Theta_j,
+// NAME_suffix of an arm's parameter or f_NAME of a fraction.
+func IsModelParameterName(name string) bool { return param.CouldBe(name) }
+
+// GlobalNames returns the names of the global parameters of a model whose rotation curve is
+// of family fam with nodes node radii, in the order of the parameter table (param.Table): R0,
+// the curve's parameters (Theta0 and dTheta_dR, Theta0 and alpha, or Theta_1 … Theta_nodes),
+// Usun, Vsun, Wsun, Us, Vs, Ws, sigma_vir, width_slope.
+func GlobalNames(fam CurveFamily, nodes int) []string {
+	var names []string
+	for _, e := range param.Table() {
+		if e.Kind != param.Global {
+			continue
+		}
+		switch e.Name {
+		case param.NodePattern:
+			if fam == CurveNodes {
+				for j := 1; j <= nodes; j++ {
+					names = append(names, param.NodeName(j))
+				}
+			}
+		case param.Theta0:
+			if fam == CurveLinear || fam == CurvePower {
+				names = append(names, e.Name)
+			}
+		case param.DThetaDR:
+			if fam == CurveLinear {
+				names = append(names, e.Name)
+			}
+		case param.Alpha:
+			if fam == CurvePower {
+				names = append(names, e.Name)
+			}
+		default:
+			names = append(names, e.Name)
 		}
 	}
-	return false
+	return names
 }
 
 // ReadParamValues reads a JSON file holding one object of parameter values keyed by name,

@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"math"
 	"slices"
-	"strconv"
 	"sync"
 
 	"github.com/mirabilis-astro/mirabilis/arms"
@@ -99,7 +98,7 @@ func (p *Posterior) Names() []string {
 		out = append(out, p.names[i])
 	}
 	for k := 1; k <= p.fracReals(); k++ {
-		out = append(out, "stick_"+strconv.Itoa(k))
+		out = append(out, param.StickName(k))
 	}
 	return out
 }
@@ -231,11 +230,11 @@ func (p *Posterior) LogDensityParallel(x []float64, workers int) float64 {
 	return p.logDensityIndexed(x, workers)
 }
 
-// Derived returns the derived quantities of a parameter set (MODEL §6): Omega_sun
-// (Θ0 + V⊙)/R0, Theta0_over_R0, Theta0_plus_Vsun, Oort_A and Oort_B at R0 (km/s/kpc or
-// km/s), Theta0 (useful for the nodes curve, where it is derived) and NAME_Rsun, the radius
-// (kpc) where arm NAME crosses the Sun–centre line nearest the Sun (NaN if its azimuth range
-// never reaches that line).
+// Derived returns the derived quantities of a parameter set (MODEL §6), keyed by the names
+// DerivedNames gives: Omega_sun (Θ0 + V⊙)/R0, Theta0_over_R0, Theta0_plus_Vsun, Oort_A and
+// Oort_B at R0 (km/s/kpc or km/s), Theta0 for the nodes curve (where it is derived, not a
+// parameter) and NAME_Rsun, the radius (kpc) where arm NAME crosses the Sun–centre line
+// nearest the Sun (NaN if its azimuth range never reaches that line).
 func Derived(p *Params, spec *Spec) map[string]float64 {
 	m := p.Motion
 	A, B := m.Oort()
@@ -245,7 +244,9 @@ func Derived(p *Params, spec *Spec) map[string]float64 {
 		param.ThetaPlusVsun: m.Theta0() + m.Sun().V,
 		param.OortA:         A,
 		param.OortB:         B,
-		param.Theta0:        m.Theta0(),
+	}
+	if spec.thetaDerived() {
+		out[param.Theta0] = m.Theta0()
 	}
 	var cross []arms.Crossing
 	for _, a := range p.Layout.Arms {
@@ -259,11 +260,7 @@ func Derived(p *Params, spec *Spec) map[string]float64 {
 	return out
 }
 
-// DerivedNames lists the names Derived returns, in a fixed order.
+// DerivedNames lists the names Derived returns, in the order of the parameter table.
 func DerivedNames(spec *Spec) []string {
-	names := []string{param.OmegaSun, param.ThetaOverR0, param.ThetaPlusVsun, param.OortA, param.OortB, param.Theta0}
-	for _, a := range spec.Arms {
-		names = append(names, a.Name+param.SuffixRsun)
-	}
-	return names
+	return param.DerivedNames(spec.thetaDerived(), spec.ArmNames())
 }

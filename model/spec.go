@@ -58,6 +58,21 @@ func NewArmSpec(name string, refDeg, startDeg, endDeg float64, kinked bool) ArmS
 	return ArmSpec{Name: name, BetaRef: refDeg * deg, BetaStart: startDeg * deg, BetaEnd: endDeg * deg, Kinked: kinked}
 }
 
+// ArmNames returns the names of the arms in order.
+func (s *Spec) ArmNames() []string {
+	names := make([]string, len(s.Arms))
+	for k, a := range s.Arms {
+		names[k] = a.Name
+	}
+	return names
+}
+
+// thetaDerived reports whether Θ0 is a derived quantity rather than a parameter: for the
+// nodes curve, set or (with no family set) implied by node radii.
+func (s *Spec) thetaDerived() bool {
+	return s.Curve.Family == CurveNodes || (s.Curve.Family == "" && len(s.Curve.NodeRadii) > 0)
+}
+
 // Validate checks the settings for values the likelihood cannot work with.
 func (s *Spec) Validate() error {
 	switch {

@@ -201,3 +201,88 @@ func TestSimulateHelp(t *testing.T) {
 		t.Errorf("simulate's help:\n%s", out)
 	}
 }
+
+// TestCheckConfiguration checks "check CONFIG.toml": the configuration and its catalog are
+// checked together, in text and in JSON.
+func TestCheckConfiguration(t *testing.T) {
+	dir := t.TempDir()
+	cfg := filepath.Join(dir, "demo-fit.toml")
+	os.WriteFile(cfg, demoFit, 0o644)
+	cat := filepath.Join(dir, "sources.csv")
+	os.WriteFile(cat, []byte("name,l,b,parallax,parallax_err,arm\n"+
+		"s1,30,0,0.2,0.02,lantern\n"+
+		"#s2,40,0,0.2,0.02,\n"+
+		"s3,50,0,0.2,0.02,\n"), 0o644)
+
+	code, out, errs := runCLI(t, "check", cfg)
+	if code != 0 || !strings.Contains(out, "valid configuration") || !strings.Contains(out, "4 arms (Corvid, Lantern, Tamarisk, Halcyon)") ||
+		!strings.Contains(out, "2 sources") {
+		t.Errorf("check of a good configuration: exit %d\n%s%s", code, out, errs)
+	}
+	if !strings.Contains(errs, "warning: "+cat+":3: line skipped as a comment") {
+		t.Errorf("check does not warn of the commented row:\n%s", errs)
+	}
+
+	code, out, _ = runCLI(t, "check", cfg, "--format", "json")
+	var rep struct {
+		Kind     string
+		Valid    bool
+		Problems []map[string]any
+		Warnings []struct {
+			Line    int
+			Message string
+		}
+		Catalog struct {
+			Sources int
+			Arms    map[string]int
+		}
+		Configuration struct {
+			RotationCurve     string `json:"rotation_curve"`
+			SampledDimensions int    `json:"sampled_dimensions"`
+			Arms              []string
+		}
+	}
+	if err := json.Unmarshal([]byte(out), &rep); err != nil {
+		t.Fatalf("%v\n%s", err, out)
+	}
+	// demo-fit.toml: 10 free global parameters, 3 for each of 4 arms, and 4 of the 5
+	// membership fractions as coordinates (the fifth follows from the sum).
+	if code != 0 || rep.Kind != "configuration" || !rep.Valid || len(rep.Problems) != 0 || rep.Catalog.Sources != 2 ||
+		rep.Catalog.Arms["lantern"] != 1 || rep.Configuration.RotationCurve != "linear" || rep.Configuration.SampledDimensions != 26 ||
+		len(rep.Configuration.Arms) != 4 || len(rep.Warnings) != 1 || rep.Warnings[0].Line != 3 {
+		t.Errorf("check --format json: exit %d, %+v", code, rep)
+	}
+
+	// A misspelt key and an unknown arm label: both kinds of problem are reported.
+	bad := strings.Replace(string(demoFit), "[sampler]\n", "[sampler]\nwalker = 40\n", 1)
+	os.WriteFile(cfg, []byte(bad), 0o644)
+	code, out, _ = runCLI(t, "check", cfg, "--format", "json")
+	if err := json.Unmarshal([]byte(out), &rep); err != nil {
+		t.Fatal(err)
+	}
+	if code != 1 || rep.Valid || len(rep.Problems) != 1 || rep.Problems[0]["key"] != "sampler.walker" ||
+		!strings.Contains(rep.Problems[0]["message"].(string), "did you mean walkers?") || rep.Problems[0]["line"] == nil {
+		t.Errorf("check --format json of a misspelt key: exit %d, %+v", code, rep)
+	}
+	os.WriteFile(cfg, demoFit, 0o644)
+	os.WriteFile(cat, []byte("name,l,b,parallax,parallax_err,arm\ns1,30,0,0.2,0.02,Lanten\n"), 0o644)
+	code, _, errs = runCLI(t, "check", cfg)
+	if code != 1 || !strings.Contains(errs, `arm "Lanten" is not an arm of the model (did you mean Lantern?)`) {
+		t.Errorf("check of a catalog with a misspelt arm: exit %d, %s", code, errs)
+	}
+
+	// A bad catalog in JSON: each problem positioned.
+	code, out, _ = runCLI(t, "check", "../../testdata/catalog/bad_values.csv", "--format", "json")
+	if err := json.Unmarshal([]byte(out), &rep); err != nil {
+		t.Fatal(err)
+	}
+	found := false
+	for _, p := range rep.Problems {
+		if p["line"] == 4.0 && p["column"] == 5.0 && p["column_name"] == "parallax_err" && p["value"] == "-0.02" {
+			found = true
+		}
+	}
+	if code != 1 || rep.Kind != "catalog" || rep.Valid || !found {
+		t.Errorf("check --format json of a bad catalog: exit %d, %+v", code, rep.Problems)
+	}
+}

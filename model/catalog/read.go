@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"strings"
 	"unicode/utf8"
 
@@ -36,6 +37,7 @@ const (
 	colVHelio
 	colVHelioErr
 	colArm
+	colDistance // places files only (see ReadPlaces)
 	numColumns
 )
 
@@ -43,7 +45,7 @@ const (
 var columnNames = [numColumns]string{
 	"name", "ra", "dec", "l", "b", "parallax", "parallax_err",
 	"pmra", "pmra_err", "pmdec", "pmdec_err", "pml", "pml_err", "pmb", "pmb_err",
-	"vlsr", "vlsr_err", "vhelio", "vhelio_err", "arm",
+	"vlsr", "vlsr_err", "vhelio", "vhelio_err", "arm", "distance",
 }
 
 // columnUnits holds the unit of each numeric column, for messages.
@@ -53,6 +55,7 @@ var columnUnits = [numColumns]string{
 	colPMRA: "mas/yr", colPMRAErr: "mas/yr", colPMDec: "mas/yr", colPMDecErr: "mas/yr",
 	colPML: "mas/yr", colPMLErr: "mas/yr", colPMB: "mas/yr", colPMBErr: "mas/yr",
 	colVLSR: "km/s", colVLSRErr: "km/s", colVHelio: "km/s", colVHelioErr: "km/s",
+	colDistance: "kpc",
 }
 
 // valueErrorPairs lists each measured column with its uncertainty column.
@@ -80,6 +83,45 @@ func lookupColumn(name string) (column, bool) {
 	return 0, false
 }
 
+// placeColumns are the columns of a places file.
+var placeColumns = []column{colName, colRA, colDec, colL, colB, colDistance}
+
+const knownPlaceColumns = "known columns: name, ra, dec, l, b, distance"
+
+// column returns the column a header name stands for in the kind of file being read: a
+// catalog's columns, or those of a places file.
+func (rd *reader) column(name string) (column, bool) {
+	c, ok := lookupColumn(name)
+	if !ok {
+		return 0, false
+	}
+	if rd.places {
+		return c, slices.Contains(placeColumns, c)
+	}
+	return c, c != colDistance
+}
+
+// known lists the columns of the kind of file being read, for messages.
+func (rd *reader) known() string {
+	if rd.places {
+		return knownPlaceColumns
+	}
+	return knownColumns
+}
+
+// suggest returns the column of the kind of file being read nearest to an unknown name,
+// or "" if none is close (see spelling.Nearest).
+func (rd *reader) suggest(name string) string {
+	if rd.places {
+		names := make([]string, len(placeColumns))
+		for i, c := range placeColumns {
+			names[i] = columnNames[c]
+		}
+		return spelling.Nearest(name, names)
+	}
+	return suggestColumn(name)
+}
+
 // header is a parsed header row.
 type header struct {
 	line  int
@@ -105,11 +147,19 @@ func (h *header) label(c column) string {
 // wrapped.
 func Read(r io.Reader, name string) (*Catalog, error) {
 	rd := reader{ps: problems{err: Error{File: name}}, seen: map[string]int{}}
+	if err := rd.read(r, name); err != nil {
+		return nil, err
+	}
+	return &Catalog{Path: name, Header: rd.h.names, Sources: rd.sources, Warnings: rd.warnings}, nil
+}
+
+// read reads the lines of r into rd; name is used in messages.
+func (rd *reader) read(r io.Reader, name string) error {
 	br := bufio.NewReader(r)
 	for lineNo := 1; ; lineNo++ {
 		line, err := br.ReadString('\n')
 		if err != nil && !errors.Is(err, io.EOF) {
-			return nil, fmt.Errorf("reading catalog %s: %w", name, err)
+			return fmt.Errorf("reading %s %s: %w", rd.what(), name, err)
 		}
 		if line == "" && err != nil {
 			break
@@ -120,33 +170,43 @@ func Read(r io.Reader, name string) (*Catalog, error) {
 			line = strings.TrimPrefix(line, "\uFEFF")
 		}
 		if !rd.line(line, lineNo) {
-			return nil, &rd.ps.err
+			return &rd.ps.err
 		}
 		if err != nil {
 			break
 		}
 	}
 	switch {
+	case rd.h == nil && rd.ps.count() == 0 && rd.places:
+		rd.ps.add(Problem{Reason: "no header row: expected a line naming the columns, such as name,l,b,distance"})
 	case rd.h == nil && rd.ps.count() == 0:
 		rd.ps.add(Problem{Reason: "no header row: expected a line naming the columns, such as name,ra,dec,parallax,parallax_err"})
-	case rd.h != nil && len(rd.sources) == 0 && rd.ps.count() == 0:
-		rd.ps.add(Problem{Reason: fmt.Sprintf("no sources: the header on line %d is followed by no rows", rd.h.line)})
+	case rd.h != nil && len(rd.sources)+len(rd.placeList) == 0 && rd.ps.count() == 0:
+		rd.ps.add(Problem{Reason: fmt.Sprintf("no %s: the header on line %d is followed by no rows", rd.rowsName(), rd.h.line)})
 	}
 	if rd.ps.count() > 0 {
-		return nil, &rd.ps.err
+		return &rd.ps.err
 	}
-	return &Catalog{Path: name, Header: rd.h.names, Sources: rd.sources}, nil
+	for i := range rd.warnings {
+		rd.warnings[i].File = name
+	}
+	return nil
 }
 
-// reader holds the state of one Read.
+// reader holds the state of one Read or ReadPlaces.
 type reader struct {
 	ps      problems
 	h       *header
 	sources []Source
 	seen    map[string]int // name → line
 
+	places    bool // reading a places file (ReadPlaces), not a catalog
+	placeList []Place
+
 	lastComment     string // text of the last comment before the header
 	lastCommentLine int
+	rows            int // data rows seen
+	warnings        []Problem
 
 	// The row being read.
 	fields  []string
@@ -162,9 +222,13 @@ func (rd *reader) line(line string, lineNo int) bool {
 		return true
 	}
 	if strings.HasPrefix(trimmed, "#") {
-		// Comments are skipped unread, whatever their encoding.
+		// Comments are skipped unread, whatever their encoding; one that would make a row
+		// of the header's width may be a source whose name starts with '#'.
 		if rd.h == nil {
 			rd.lastComment, rd.lastCommentLine = trimmed, lineNo
+		} else if fields, bad, _, _ := splitFields(strings.TrimPrefix(trimmed, "#")); bad == 0 && len(fields) == len(rd.h.names) && len(fields) > 1 {
+			rd.warnings = append(rd.warnings, Problem{Line: lineNo, Reason: fmt.Sprintf(
+				"line skipped as a comment, though it has the header's %d fields; if it is a source whose name starts with '#', quote the name (\"#...\")", len(fields))})
 		}
 		return true
 	}
@@ -205,6 +269,15 @@ func (rd *reader) header(fields []string, lineNo int) {
 	for c := range h.index {
 		h.index[c] = -1
 	}
+	if len(fields) == 1 {
+		for _, sep := range []struct{ char, name string }{{"\t", "tabs"}, {";", "semicolons"}, {"|", "vertical bars"}} {
+			if strings.Count(fields[0], sep.char) > 0 {
+				rd.ps.add(Problem{Line: lineNo, Column: 1, Value: fields[0], Reason: fmt.Sprintf(
+					"the header is one field holding %s: the file seems to be separated by %s, and a catalog is separated by commas (CSV); save it as comma-separated values", sep.name, sep.name)})
+				return
+			}
+		}
+	}
 	// Problems of header fields have the header text as their value; the
 	// list of known columns is given once.
 	unknown := 0
@@ -214,7 +287,7 @@ func (rd *reader) header(fields []string, lineNo int) {
 			return ""
 		}
 		listed = true
-		return "; " + knownColumns
+		return "; " + rd.known()
 	}
 	for i, f := range fields {
 		p := Problem{Line: lineNo, Column: i + 1, Value: f}
@@ -223,11 +296,11 @@ func (rd *reader) header(fields []string, lineNo int) {
 			rd.ps.add(p)
 			continue
 		}
-		c, ok := lookupColumn(f)
+		c, ok := rd.column(f)
 		if !ok {
 			unknown++
 			p.Reason = "unknown column"
-			if s := suggestColumn(f); s != "" {
+			if s := rd.suggest(f); s != "" {
 				p.Reason += fmt.Sprintf(" (did you mean %q?)", s)
 			}
 			p.Reason += known()
@@ -244,6 +317,10 @@ func (rd *reader) header(fields []string, lineNo int) {
 	}
 	missing := func(c column, reason string) {
 		rd.ps.add(Problem{Line: lineNo, ColumnName: columnNames[c], Reason: reason})
+	}
+	if rd.places {
+		rd.placesHeader(h, lineNo)
+		return
 	}
 	if !h.has(colName) {
 		reason := "missing required column name"
@@ -305,6 +382,47 @@ func commentIsHeader(comment string) bool {
 	return name
 }
 
+// unitWords are the units and unit-like words a row of units under a header may hold,
+// lower case, without brackets.
+var unitWords = map[string]bool{
+	"deg": true, "degree": true, "degrees": true, "°": true, "rad": true,
+	"mas": true, "arcsec": true, "mas/yr": true, "mas/a": true, "mas yr-1": true, "mas yr^-1": true, "masyr-1": true,
+	"km/s": true, "km s-1": true, "km s^-1": true, "kms-1": true, "kpc": true, "pc": true,
+	"h": true, "hms": true, "dms": true, "hh:mm:ss": true, "dd:mm:ss": true, "hh:mm:ss.s": true, "dd:mm:ss.s": true,
+	"text": true, "string": true, "str": true, "-": true, "unit": true, "units": true,
+}
+
+// unitsRow reports whether a row looks like a row of units: at least two fields, every
+// field blank or a unit word (brackets allowed), and at least one numeric column holding
+// one.
+func (rd *reader) unitsRow(fields []string) bool {
+	units := 0
+	for i, f := range fields {
+		w := strings.ToLower(strings.Trim(f, "[]() "))
+		if w == "" {
+			continue
+		}
+		if !unitWords[w] {
+			return false
+		}
+		if c, ok := lookupColumn(rd.h.names[i]); ok && columnUnits[c] != "" {
+			units++
+		}
+	}
+	return units >= 2
+}
+
+// nonBlank returns the fields that are not blank.
+func nonBlank(fields []string) []string {
+	var out []string
+	for _, f := range fields {
+		if f != "" {
+			out = append(out, f)
+		}
+	}
+	return out
+}
+
 // suggestColumn returns the canonical column nearest to an unknown name, or
 // "" if none is close (see spelling.Nearest).
 func suggestColumn(name string) string {
@@ -346,6 +464,17 @@ func (rd *reader) row(fields []string, lineNo int) {
 			p.Column, p.Value = want+1, fields[want]
 		}
 		rd.ps.add(p)
+		return
+	}
+	rd.rows++
+	if rd.rows == 1 && rd.unitsRow(fields) {
+		rd.ps.add(Problem{Line: lineNo, Reason: fmt.Sprintf(
+			"this row under the header looks like units (%s), not a source: the format fixes every column's unit (see the list of columns); remove the row or start it with '#'",
+			strings.Join(nonBlank(fields), ", "))})
+		return
+	}
+	if rd.places {
+		rd.place(lineNo)
 		return
 	}
 	s := Source{Line: lineNo}

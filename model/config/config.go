@@ -16,6 +16,7 @@ package config
 import (
 	"math"
 	"sort"
+	"strings"
 
 	"github.com/mirabilis-astro/mirabilis/model"
 	"github.com/mirabilis-astro/mirabilis/model/param"
@@ -52,7 +53,7 @@ type Config struct {
 
 	Rotation Rotation
 	// Params are the global parameters with their priors, in the order of
-	// GlobalNames for the chosen curve.
+	// model.GlobalNames for the chosen curve.
 	Params []Param
 	// DerivedPriors are priors on derived quantities (for example Omega_sun),
 	// in the order of DerivedNames.
@@ -224,25 +225,6 @@ type Moves struct {
 // the demo galaxy and on mock catalogs (see HelpText).
 var DefaultMoves = Moves{DiffEvolution: 1, DiffSlice: 1}
 
-// GlobalNames returns the names of the global parameters for a curve with
-// nodes rotation-curve nodes (ignored unless curve is model.CurveNodes), in the
-// order used throughout: R0, the curve's parameters, Usun, Vsun, Wsun, Us, Vs,
-// Ws, sigma_vir, width_slope.
-func GlobalNames(curve model.CurveFamily, nodes int) []string {
-	names := []string{param.R0}
-	switch curve {
-	case model.CurveLinear:
-		names = append(names, param.Theta0, param.DThetaDR)
-	case model.CurvePower:
-		names = append(names, param.Theta0, param.Alpha)
-	case model.CurveNodes:
-		for j := 1; j <= nodes; j++ {
-			names = append(names, param.NodeName(j))
-		}
-	}
-	return append(names, param.Usun, param.Vsun, param.Wsun, param.Us, param.Vs, param.Ws, param.SigmaVir, param.WidthSlope)
-}
-
 // DefaultPrior returns the prior a global parameter gets when the file gives
 // none. The defaults are broad: they bound what is physically plausible for
 // the Milky Way and its star-forming regions rather than encode a measurement.
@@ -380,24 +362,33 @@ func (c *Config) params() []Param {
 	return out
 }
 
-// armParams lists an arm's parameters: Rref, pitch, [pitch2, kink], width.
+// armParams lists an arm's parameters in the order of param.ArmNames: Rref,
+// pitch, [pitch2, kink], width.
 func armParams(a Arm) []Param {
-	ps := []Param{{a.Name + param.SuffixRref, a.Radius}, {a.Name + param.SuffixPitch, a.Pitch}}
-	if a.Kinked() {
-		ps = append(ps, Param{a.Name + param.SuffixPitch2, a.Pitch2}, Param{a.Name + param.SuffixKink, a.Kink})
+	priors := map[string]prior.Prior{
+		param.SuffixRref: a.Radius, param.SuffixPitch: a.Pitch, param.SuffixPitch2: a.Pitch2,
+		param.SuffixKink: a.Kink, param.SuffixWidth: a.Width,
 	}
-	return append(ps, Param{a.Name + param.SuffixWidth, a.Width})
+	names := param.ArmNames(a.Name, a.Kinked())
+	ps := make([]Param, len(names))
+	for i, n := range names {
+		ps[i] = Param{n, priors[strings.TrimPrefix(n, a.Name)]}
+	}
+	return ps
+}
+
+// armNames returns the names of the arms in order.
+func (c *Config) armNames() []string {
+	names := make([]string, len(c.Arms))
+	for i, a := range c.Arms {
+		names[i] = a.Name
+	}
+	return names
 }
 
 // FractionNames returns the names of the membership fractions: f_field, then
 // f_NAME for each arm in order.
-func (c *Config) FractionNames() []string {
-	names := []string{param.FieldFraction}
-	for _, a := range c.Arms {
-		names = append(names, "f_"+a.Name)
-	}
-	return names
-}
+func (c *Config) FractionNames() []string { return param.FractionNames(c.armNames()) }
 
 // Fractions returns the symmetric Dirichlet prior of the fractions named by
 // FractionNames; the sampler works with its Dim unconstrained reals (see
@@ -435,16 +426,10 @@ func DefaultWalkers(dim int) int {
 
 // DerivedNames returns the names of the derived quantities that may carry a
 // prior: Omega_sun, Theta0_over_R0, Theta0_plus_Vsun, Oort_A, Oort_B, for the
-// nodes curve Theta0 (which is then derived), and NAME_Rsun for each arm.
+// nodes curve Theta0 (which is then derived), and NAME_Rsun for each arm
+// (param.DerivedNames).
 func (c *Config) DerivedNames() []string {
-	names := []string{param.OmegaSun, param.ThetaOverR0, param.ThetaPlusVsun, param.OortA, param.OortB}
-	if c.Rotation.Curve == model.CurveNodes {
-		names = append(names, param.Theta0)
-	}
-	for _, a := range c.Arms {
-		names = append(names, a.Name+param.SuffixRsun)
-	}
-	return names
+	return param.DerivedNames(c.Rotation.Curve == model.CurveNodes, c.armNames())
 }
 
 // sortedKeys returns the keys of m in order.

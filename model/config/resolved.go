@@ -33,7 +33,7 @@ func (c *Config) Hash() string {
 // write renders the configuration; for the hash, settings that do not change
 // the chain are left out.
 func (c *Config) write(forHash bool) []byte {
-	var w tomlWriter
+	w := tomlWriter{arms: c.armNames()}
 	if !forHash {
 		w.comment("Resolved configuration %s: every setting written out, every path absolute.", quoteString(c.Name))
 		w.comment("See \"mirabilis help config\" for the meaning of each setting.")
@@ -118,7 +118,8 @@ func (c *Config) write(forHash bool) []byte {
 
 // tomlWriter writes the few TOML forms the configuration needs.
 type tomlWriter struct {
-	b strings.Builder
+	b    strings.Builder
+	arms []string // the arms' names, for the units of their parameters
 }
 
 func (w *tomlWriter) comment(format string, args ...any) {
@@ -157,35 +158,12 @@ func (w *tomlWriter) prior(key string, p Param) {
 	if p.Prior == nil {
 		return
 	}
-	note := unitOf(p.Name)
+	note := param.Unit(p.Name, w.arms)
 	if key != p.Name {
 		note = strings.TrimSpace(p.Name + ", " + note)
 		note = strings.TrimSuffix(note, ",")
 	}
 	w.str(key, p.Prior.String(), note)
-}
-
-// unitOf returns the unit of a parameter or derived quantity, "" if none.
-func unitOf(name string) string {
-	switch name {
-	case param.R0:
-		return "kpc"
-	case param.ThetaPlusVsun, param.Theta0, param.Usun, param.Vsun, param.Wsun, param.Us, param.Vs, param.Ws, param.SigmaVir:
-		return "km/s"
-	case param.DThetaDR, param.OmegaSun, param.ThetaOverR0, param.OortA, param.OortB:
-		return "km/s/kpc"
-	case param.WidthSlope:
-		return "kpc/kpc"
-	}
-	switch {
-	case param.IsNodeName(name):
-		return "km/s"
-	case strings.HasSuffix(name, param.SuffixRref), strings.HasSuffix(name, param.SuffixWidth), strings.HasSuffix(name, param.SuffixRsun):
-		return "kpc"
-	case strings.HasSuffix(name, param.SuffixPitch), strings.HasSuffix(name, param.SuffixPitch2), strings.HasSuffix(name, param.SuffixKink):
-		return "deg"
-	}
-	return ""
 }
 
 func (w *tomlWriter) inline(key string, m map[string]float64, note string) {

@@ -11,6 +11,7 @@ import (
 	"io"
 	"math"
 	"math/rand/v2"
+	"strings"
 
 	"gonum.org/v1/gonum/diff/fd"
 	"gonum.org/v1/gonum/mat"
@@ -102,6 +103,8 @@ func (j *Job) Spreads() []float64 {
 
 // PilotResult is what the pilot stage found.
 type PilotResult struct {
+	// Names are the sampled coordinates, in the order of MAP, Spread and each pilot.
+	Names []string
 	// MAP is the maximum a posteriori point, in sampled coordinates, and MAPLogDensity the
 	// log posterior there.
 	MAP           []float64
@@ -150,7 +153,7 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 	}
 	j.logf("quadrature at the starting point: %d nodes per source (median; %d–%d)", st.MedianNodes, st.MinNodes, st.MaxNodes)
 	spreads := j.Spreads()
-	res := &PilotResult{}
+	res := &PilotResult{Names: j.Post.Names()}
 	// Once the context is cancelled every point looks impossible, which ends the search
 	// within its budget at little cost; the cancellation is reported below.
 	logDensity := func(x []float64) float64 {
@@ -165,8 +168,8 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
-		// A search that has not settled continues from where it stopped with four times
-		// the budget, at most three times.
+		// A search that has not settled continues once from where it stopped with twice
+		// the budget; if it still has not, the point is reported as the best found.
 		budget := 100 * (len(x) + 1) / round
 		for attempt := 0; ; attempt++ {
 			found, err := mcmc.FindMAP(logDensity, x, &mcmc.MAPSettings{Scale: mapScales(spreads, x), MaxEvaluations: budget, Restarts: 4})
@@ -181,11 +184,11 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 				j.logf("MAP search round %d: log posterior %.3f after %d evaluations; converged (a restart gained %.1e)", round, lp, found.Evaluations, found.LastGain)
 				break
 			}
-			if attempt == 3 {
+			if attempt == 1 {
 				j.logf("MAP search round %d: log posterior %.3f after %d evaluations; NOT converged (the last search gained %.2g): the reported point is the best found, not a maximum", round, lp, found.Evaluations, found.LastGain)
 				break
 			}
-			budget *= 4
+			budget *= 2
 			j.logf("MAP search round %d: log posterior %.3f after %d evaluations, still rising (last gain %.2g); continuing with %d evaluations", round, lp, found.Evaluations, found.LastGain, budget)
 		}
 		if round == 1 {
@@ -239,6 +242,10 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 	lp = logDensity(x)
 	j.logf("quadrature at %d pilots: %d nodes per source (median; %d–%d), %d not converged",
 		len(pilots), st.MedianNodes, st.MinNodes, st.MaxNodes, len(st.Unconverged))
+	if len(st.Fallback) > 0 {
+		j.logf("%d source(s) used up the panel refinements before resolving every peak and keep the fallback panels, refined on the error estimate alone: %s",
+			len(st.Fallback), strings.Join(st.Fallback, ", "))
+	}
 	res.MAP, res.MAPLogDensity, res.Spread, res.Pilots, res.Stats = x, lp, spread, pilots, st
 	return res, nil
 }

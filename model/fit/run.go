@@ -11,13 +11,10 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
-	"sort"
-	"strings"
 	"time"
 
 	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
 	"github.com/mirabilis-astro/mirabilis/mcmc"
-	"github.com/mirabilis-astro/mirabilis/model"
 	"github.com/mirabilis-astro/mirabilis/model/catalog"
 	"github.com/mirabilis-astro/mirabilis/model/config"
 )
@@ -26,7 +23,7 @@ import (
 const (
 	ManifestFile   = "run.json"       // what the run is and how far it got
 	ConfigFile     = "config.toml"    // the resolved configuration, usable with fit as it is
-	ChainFile      = "chain.csv"      // the chain, one row per walker per step
+	ChainFile      = "chain.npy"      // the chain (NumPy .npy), one record per walker per kept step
 	CheckpointFile = "checkpoint.bin" // the sampler's state and the quadrature layouts
 	PilotFile      = "pilot.json"     // the pilot stage: MAP point, spreads, quadrature
 	LogFile        = "log.txt"        // what the run reported, in order
@@ -41,8 +38,9 @@ const (
 
 // Manifest describes a run directory.
 type Manifest struct {
-	Format        int    `json:"format"`
-	State         string `json:"state"`
+	Format int    `json:"format"`
+	State  string `json:"state"`
+	// Step is the step of the last checkpoint: where a resumed run continues.
 	Step          int    `json:"step"`
 	ConfigHash    string `json:"config_sha256"`
 	CatalogPath   string `json:"catalog"`
@@ -169,6 +167,11 @@ func Fit(ctx context.Context, cfg *config.Config, opts Options) (*Outcome, error
 	if err != nil {
 		return nil, err
 	}
+	for _, w := range cat.Warnings {
+		if opts.Log != nil {
+			fmt.Fprintf(opts.Log, "warning: %s\n", w)
+		}
+	}
 	catHash, err := FileSHA256(cfg.Catalog)
 	if err != nil {
 		return nil, err
@@ -178,10 +181,11 @@ func Fit(ctx context.Context, cfg *config.Config, opts Options) (*Outcome, error
 		return nil, err
 	}
 	dir := cfg.Output
-	resuming, err := claimDir(dir, cfg, catHash, refineUntil, opts)
+	resuming, lock, took, err := claimDir(dir, cfg, catHash, refineUntil, opts)
 	if err != nil {
 		return nil, err
 	}
+	defer lock.release()
 	if m, err := ReadManifest(dir); err == nil {
 		refineUntil = m.RefineUntil
 	}
@@ -195,6 +199,9 @@ func Fit(ctx context.Context, cfg *config.Config, opts Options) (*Outcome, error
 		logw = io.MultiWriter(logFile, opts.Log)
 	}
 	job.Log = logw
+	if took != nil {
+		job.logf("took over the lock of a fit that is no longer running (%s)", took)
+	}
 	out, err := runIn(ctx, job, dir, resuming, refineUntil, opts)
 	if err != nil {
 		// The directory stays as a run to resume; say why it stopped.
@@ -208,55 +215,82 @@ func Fit(ctx context.Context, cfg *config.Config, opts Options) (*Outcome, error
 	return out, err
 }
 
-// claimDir makes sure dir may hold this run, creating it whole if it does not exist. It
-// reports whether an existing run is to be resumed.
-func claimDir(dir string, cfg *config.Config, catHash string, refineUntil int, opts Options) (bool, error) {
+// claimDir makes sure dir may hold this run, creating it whole if it does not exist, and
+// takes its lock (see LockFile). It reports whether an existing run is to be resumed, and
+// the holder of a stale lock it took over.
+func claimDir(dir string, cfg *config.Config, catHash string, refineUntil int, opts Options) (resume bool, l *dirLock, took *LockHolder, err error) {
+	if _, err := os.Stat(filepath.Join(dir, ManifestFile)); err == nil {
+		if l, took, err = lockDir(dir); err != nil {
+			return false, nil, nil, err
+		}
+	}
+	resume, nl, err := claimLocked(dir, cfg, catHash, refineUntil, opts)
+	if nl != nil {
+		l.release()
+		l = nl
+	}
+	if err != nil {
+		l.release()
+		return false, nil, nil, err
+	}
+	return resume, l, took, nil
+}
+
+// claimLocked is claimDir once an existing run directory is locked; a new directory
+// comes with its own lock, returned.
+func claimLocked(dir string, cfg *config.Config, catHash string, refineUntil int, opts Options) (bool, *dirLock, error) {
 	m, err := ReadManifest(dir)
 	switch {
 	case err == nil:
 		switch {
 		case opts.Resume:
 			if m.ConfigHash != chainHash(cfg) {
-				return false, fmt.Errorf("run directory %s: the configuration differs from the one the run was started with (compare with %s); start a new run instead of resuming",
+				return false, nil, fmt.Errorf("run directory %s: the configuration differs from the one the run was started with (compare with %s); start a new run instead of resuming",
 					dir, filepath.Join(dir, ConfigFile))
 			}
 			if m.CatalogSHA256 != catHash {
-				return false, fmt.Errorf("run directory %s: the catalog %s changed since the run was started; start a new run instead of resuming", dir, cfg.Catalog)
+				return false, nil, fmt.Errorf("run directory %s: the catalog %s changed since the run was started; start a new run instead of resuming", dir, cfg.Catalog)
 			}
 			if m.State == StateFinished {
 				if _, err := os.Stat(filepath.Join(dir, CheckpointFile)); err != nil {
-					return false, fmt.Errorf("run directory %s: the run is finished and has no checkpoint to continue from", dir)
+					return false, nil, fmt.Errorf("run directory %s: the run is finished and has no checkpoint to continue from", dir)
 				}
 			}
-			return true, writeConfig(dir, cfg)
+			return true, nil, writeConfig(dir, cfg)
 		case opts.Force:
 			if err := os.RemoveAll(dir); err != nil {
-				return false, err
+				return false, nil, err
 			}
 		case m.State == StateFinished:
-			return false, fmt.Errorf("run directory %s holds a finished run; use --force to replace it or --out to choose another directory", dir)
+			return false, nil, fmt.Errorf("run directory %s holds a finished run; use --force to replace it or --out to choose another directory", dir)
 		default:
-			return false, fmt.Errorf("run directory %s holds a %s run (step %d); use --resume to continue it or --force to start again", dir, m.State, m.Step)
+			return false, nil, fmt.Errorf("run directory %s holds a %s run (step %d); use --resume to continue it or --force to start again", dir, m.State, m.Step)
 		}
 	case errors.Is(err, fs.ErrNotExist):
 		entries, derr := os.ReadDir(dir)
 		if derr == nil && len(entries) > 0 {
-			return false, fmt.Errorf("%s exists and is not a run directory; choose another with --out", dir)
+			return false, nil, fmt.Errorf("%s exists and is not a run directory; choose another with --out", dir)
 		}
 		if derr == nil {
 			os.Remove(dir)
 		}
 	default:
-		return false, err
+		return false, nil, err
 	}
 	// A new run directory, made under a temporary name and renamed into place.
 	parent := filepath.Dir(dir)
 	if err := atomicfile.MkdirAll(parent); err != nil {
-		return false, err
+		return false, nil, err
 	}
 	tmp, err := atomicfile.MkdirTemp(parent, "."+filepath.Base(dir)+".new-*")
 	if err != nil {
-		return false, err
+		return false, nil, err
+	}
+	// It appears locked: the lock is taken before the rename.
+	l, _, err := lockDir(tmp)
+	if err != nil {
+		os.RemoveAll(tmp)
+		return false, nil, err
 	}
 	m = &Manifest{Format: 1, State: StateRunning, ConfigHash: chainHash(cfg), CatalogPath: cfg.Catalog,
 		CatalogSHA256: catHash, Created: now(), Updated: now(), RefineUntil: refineUntil}
@@ -266,11 +300,15 @@ func claimDir(dir string, cfg *config.Config, catHash string, refineUntil int, o
 	if err == nil {
 		err = os.Rename(tmp, dir)
 	}
-	if err != nil {
-		os.RemoveAll(tmp)
-		return false, fmt.Errorf("creating run directory %s: %w", dir, err)
+	if err == nil {
+		err = atomicfile.SyncDir(parent)
 	}
-	return false, nil
+	if err != nil {
+		l.release()
+		os.RemoveAll(tmp)
+		return false, nil, fmt.Errorf("creating run directory %s: %w", dir, err)
+	}
+	return false, l, nil
 }
 
 func writeConfig(dir string, cfg *config.Config) error {
@@ -287,9 +325,6 @@ func updateManifest(dir string, f func(m *Manifest)) error {
 	return writeJSON(filepath.Join(dir, ManifestFile), m)
 }
 
-// monitorSources is how many sources the quadrature monitor checks at each checkpoint.
-const monitorSources = 64
-
 func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, opts Options) (*Outcome, error) {
 	cfg := job.Config
 	ckPath := filepath.Join(dir, CheckpointFile)
@@ -303,13 +338,13 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 				return nil, fmt.Errorf("%s: %w", ckPath, err)
 			}
 			job.logf("resuming at step %d", ck.Step)
-			data, err := os.ReadFile(filepath.Join(dir, PilotFile))
-			if err != nil {
+			var err error
+			pilot, err = readPilot(filepath.Join(dir, PilotFile), job.Post.Names())
+			if errors.Is(err, fs.ErrNotExist) {
 				return nil, fmt.Errorf("run directory %s has a checkpoint but no pilot stage: %w", dir, err)
 			}
-			pilot = new(PilotResult)
-			if err := json.Unmarshal(data, pilot); err != nil {
-				return nil, fmt.Errorf("%s: %w", filepath.Join(dir, PilotFile), err)
+			if err != nil {
+				return nil, err
 			}
 			if err := job.Exclude(pilot.Excluded); err != nil {
 				return nil, fmt.Errorf("%s: %w", filepath.Join(dir, PilotFile), err)
@@ -327,7 +362,7 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 		if err != nil {
 			return nil, err
 		}
-		if err := writeJSON(filepath.Join(dir, PilotFile), jsonSafe(pilot)); err != nil {
+		if err := writePilot(filepath.Join(dir, PilotFile), pilot); err != nil {
 			return nil, err
 		}
 	}
@@ -337,7 +372,6 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 		return nil, err
 	}
 	names := job.Post.Names()
-	nsrc := len(job.Like.Sources)
 	set := &mcmc.Settings{
 		Names:           names,
 		Walkers:         cfg.Sampler.Walkers,
@@ -348,7 +382,6 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 		AdaptWeights:    cfg.Sampler.AdaptWeights,
 		Steps:           cfg.Sampler.Steps,
 		ChainPath:       filepath.Join(dir, ChainFile),
-		Comments:        []string{"mirabilis chain: sampled coordinates; stick_k are the membership fractions' stick-breaking reals"},
 		CheckpointPath:  ckPath,
 		CheckpointEvery: cfg.Sampler.CheckpointEvery,
 		Resume:          resuming,
@@ -366,6 +399,11 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 		// estimate of τ itself to settle (common practice, no source).
 		set.MinESS, set.TauFactor = cfg.Sampler.MinESS, 20
 	}
+	set.AfterCheckpoint = func(step int) error {
+		return updateManifest(dir, func(m *Manifest) {
+			m.State, m.Step, m.StopReason = StateRunning, step, ""
+		})
+	}
 	first := !resuming
 	set.OnCheckpoint = func(ev mcmc.CheckpointEvent) (mcmc.CheckpointReply, error) {
 		var reply mcmc.CheckpointReply
@@ -376,63 +414,27 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 		if ev.Step == 0 {
 			return reply, nil
 		}
-		// Monitor the quadrature at a few walkers for a sample of sources.
-		w := len(ev.Positions)
-		var at []int
-		for m := range 4 {
-			at = append(at, (ev.Step/max(1, cfg.Sampler.CheckpointEvery)+m*w/4)%w)
-		}
-		sample := make([]int, 0, monitorSources)
-		stride := max(1, nsrc/monitorSources)
-		for i := (ev.Step * 7919) % max(1, stride); i < nsrc && len(sample) < monitorSources; i += stride {
-			sample = append(sample, i)
-		}
-		bad := map[int]float64{}
-		var params []*model.Params
-		for _, k := range at {
-			p, err := job.Post.Params(ev.Positions[k])
-			if err != nil {
-				continue
-			}
-			params = append(params, p)
-			for i, e := range job.Like.Monitor(p, sample) {
-				bad[i] = max(bad[i], e)
-			}
-		}
-		if len(bad) == 0 {
-			return reply, nil
-		}
-		// Name the worst few; the rest are counted.
-		worst := make([]int, 0, len(bad))
-		for _, i := range sample {
-			if _, ok := bad[i]; ok {
-				worst = append(worst, i)
-			}
-		}
-		sort.SliceStable(worst, func(a, b int) bool { return bad[worst[a]] > bad[worst[b]] })
-		var list []string
-		for k, i := range worst {
-			if k == 5 {
-				list = append(list, fmt.Sprintf("and %d more", len(worst)-5))
-				break
-			}
-			list = append(list, fmt.Sprintf("%s (%.1e)", job.Like.Sources[i].Name, bad[i]))
+		// Measure the quadrature error at a few walkers for a sample of sources.
+		chk, err := job.checkQuadrature(ev.Step, cfg.Sampler.CheckpointEvery, ev.Positions)
+		if err != nil {
+			return reply, err
 		}
 		refine := ev.Step <= limit && !ev.Final
 		action := "kept as they are (past burn-in)"
 		if refine {
 			action = "refined"
 		}
-		job.logf("step %d: estimated quadrature error above %.0e for %d of %d sources checked: %s; panels %s",
-			ev.Step, job.Spec.Tol, len(worst), len(sample), strings.Join(list, ", "), action)
-		if !refine {
+		name := func(i int) string { return job.Like.Sources[i].Name }
+		if msg := chk.report(ev.Step, job.Spec.Tol, name, action); msg != "" {
+			job.logf("%s", msg)
+		}
+		bad := chk.over(job.Spec.Tol)
+		if !refine || len(bad) == 0 {
 			return reply, nil
 		}
-		for _, i := range sample {
-			if _, ok := bad[i]; ok {
-				if err := job.Like.Refine(i, params); err != nil {
-					return reply, err
-				}
+		for _, i := range bad {
+			if err := job.Like.Refine(i, chk.Params); err != nil {
+				return reply, err
 			}
 		}
 		data, err := job.Like.MarshalLayouts()
@@ -448,7 +450,10 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 	}
 	start := mcmc.Start{Center: pilot.MAP, Scale: spread}
 	job.logf("sampling: %d walkers, %d dimensions, seed %d", set.Walkers, len(names), set.Seed)
-	res, err := mcmc.Run(ctx, mcmc.Problem{LogDensity: job.Post.LogDensity, Dim: len(names)}, start, set)
+	// Sources are shared among the threads that no walker keeps busy (fewer walkers in a
+	// half-step than threads, or the last walkers of one); the value is the same either way.
+	logDensity := func(x []float64) float64 { return job.Post.LogDensityParallel(x, set.Threads) }
+	res, err := mcmc.Run(ctx, mcmc.Problem{LogDensity: logDensity, Dim: len(names)}, start, set)
 	if err != nil {
 		return nil, err
 	}

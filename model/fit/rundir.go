@@ -3,7 +3,6 @@ package fit
 import (
 	"bufio"
 	"bytes"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"io/fs"
@@ -62,13 +61,12 @@ func OpenRun(dir string) (*Run, error) {
 	}
 	r := &Run{Dir: dir, Manifest: m, Job: job}
 	pilotPath := filepath.Join(dir, PilotFile)
-	data, err := os.ReadFile(pilotPath)
-	if err != nil {
+	r.Pilot, err = readPilot(pilotPath, job.Post.Names())
+	if errors.Is(err, fs.ErrNotExist) {
 		return nil, fmt.Errorf("run directory %s has no pilot stage yet: %w", dir, err)
 	}
-	r.Pilot = new(PilotResult)
-	if err := json.Unmarshal(data, r.Pilot); err != nil {
-		return nil, fmt.Errorf("%s: %w", pilotPath, err)
+	if err != nil {
+		return nil, err
 	}
 	if err := job.Exclude(r.Pilot.Excluded); err != nil {
 		return nil, fmt.Errorf("%s: %w", pilotPath, err)
@@ -90,9 +88,22 @@ func OpenRun(dir string) (*Run, error) {
 	return r, nil
 }
 
-// readRunChain reads the chain of the run in dir.
+// Close releases the run's chain file.
+func (r *Run) Close() error { return r.Chain.Close() }
+
+// oldChainFile is where runs made before the chain became a .npy file kept it (CSV).
+const oldChainFile = "chain.csv"
+
+// readRunChain reads the chain of the run in dir, from an older run's CSV chain when it has
+// no .npy one.
 func readRunChain(dir string) (*mcmc.Chain, error) {
-	return mcmc.ReadChainFile(filepath.Join(dir, ChainFile))
+	path := filepath.Join(dir, ChainFile)
+	if _, err := os.Stat(path); errors.Is(err, fs.ErrNotExist) {
+		if _, err := os.Stat(filepath.Join(dir, oldChainFile)); err == nil {
+			path = filepath.Join(dir, oldChainFile)
+		}
+	}
+	return mcmc.ReadChainFile(path)
 }
 
 // Burn returns the number of kept rows left out as burn-in: burn when positive, else the
@@ -128,7 +139,7 @@ func drawsOf(job *Job, c *mcmc.Chain, n, burn int) []Draw {
 	n = min(n, rows*W)
 	out := make([]Draw, 0, n)
 	for i := range n {
-		x := c.X[burn+i*rows/n][i%W]
+		x := c.Position(burn+i*rows/n, i%W, nil)
 		p, err := job.Post.Params(x)
 		if err != nil {
 			continue

@@ -227,7 +227,7 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 	}
 	burn = min(max(burn, tune), rows-2) // the tuning steps are never summarised
 	W := chain.Walkers()
-	s := &Summary{Steps: chain.Step[rows-1], Walkers: W, Burn: burn, Components: components(job.Spec)}
+	s := &Summary{Steps: chain.Step(rows - 1), Walkers: W, Burn: burn, Components: components(job.Spec)}
 	if res != nil {
 		s.Status, s.Acceptance, s.TauOK = res.Status.String(), res.MeanAcceptance(), res.TauReliable
 		for _, st := range res.Stuck {
@@ -249,9 +249,11 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 			series[q][k] = make([]float64, n)
 		}
 	}
+	var x []float64
 	for t := burn; t < rows; t++ {
 		for k := range W {
-			vals, der := job.values(chain.X[t][k])
+			x = chain.Position(t, k, x)
+			vals, der := job.values(x)
 			for q, name := range paramNames {
 				series[q][k][t-burn] = vals[name]
 			}
@@ -261,7 +263,7 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 		}
 	}
 	s.Samples = n * W
-	s.samples = samplesTable(names, chain.Step[burn:], series)
+	s.samples = samplesTable(names, chain.Steps()[burn:], series)
 	var mapVals, mapDer map[string]float64
 	if pilot != nil {
 		mapVals, mapDer = job.values(pilot.MAP)
@@ -269,6 +271,10 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 	}
 	for _, p := range cfg.DerivedPriors {
 		s.DerivedPriors = append(s.DerivedPriors, p.Name+" ~ "+p.Prior.String())
+	}
+	isFraction := map[string]bool{}
+	for _, name := range fractionNames(job.Spec) {
+		isFraction[name] = true
 	}
 	free := map[string]string{}
 	for i, name := range job.Config.ParamNames() {
@@ -297,12 +303,12 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 		qt.ESS = float64(n*W) / qt.Tau
 		qt.Rhat, qt.ESSBulk, qt.ESSTail = mcmc.SplitRhat(series[q]), mcmc.BulkESS(series[q]), mcmc.TailESS(series[q])
 		if q < len(paramNames) {
-			if pr, ok := free[name]; ok || isFraction(name) {
+			if pr, ok := free[name]; ok || isFraction[name] {
 				qt.Prior = pr
-				if isFraction(name) {
+				if isFraction[name] {
 					qt.Prior = fmt.Sprintf("dirichlet(%g)", cfg.Membership.Concentration)
 				}
-				if !job.Spec.Galaxy && isFraction(name) {
+				if !job.Spec.Galaxy && isFraction[name] {
 					continue
 				}
 				s.Params = append(s.Params, qt)
@@ -320,7 +326,7 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 	nd := min(sourceDraws, n*W)
 	var draws []*model.Params
 	for i := range nd {
-		x := chain.X[burn+i*n/nd][i%W]
+		x := chain.Position(burn+i*n/nd, i%W, nil)
 		p, err := job.Post.Params(x)
 		if err != nil {
 			continue
@@ -370,8 +376,6 @@ func fractionNames(s *model.Spec) []string {
 	}
 	return out
 }
-
-func isFraction(name string) bool { return strings.HasPrefix(name, "f_") }
 
 // describe returns the quantiles and moments of a sample, NaN values left out.
 func describe(name string, x []float64) Quantity {

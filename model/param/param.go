@@ -74,5 +74,17 @@ func IsNodeName(name string) bool {
 	return err == nil && j >= 1 && NodeName(j) == name
 }
 
-// ArmName returns the name of an arm's parameter: arm + suffix.
-func ArmName(arm, suffix string) string { return arm + suffix }
+// StickName returns the name of the k-th unconstrained real (counted from 1) of the
+// membership fractions' stick-breaking transform, as sampled coordinates and chain columns
+// call it: "stick_1", "stick_2" … These are not parameters of the model.
+func StickName(k int) string { return "stick_" + strconv.Itoa(k) }
+
+// IsStickName reports whether name is a StickName.
+func IsStickName(name string) bool {
+	s, ok := strings.CutPrefix(name, "stick_")
+	if !ok || s == "" || s[0] == '0' {
+		return false
+	}
+	k, err := strconv.Atoi(s)
+	return err == nil && k >= 1 && StickName(k) == name
+}
