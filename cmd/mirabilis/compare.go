@@ -85,6 +85,7 @@ func runCompare(env *runEnv, o *compareOptions, args []string) error {
 		return usageErrorf("--burn and --threads must not be negative")
 	}
 	var runs []*fit.Run
+	defer func() { closeRuns(runs) }()
 	for _, d := range args {
 		r, err := fit.OpenRun(d)
 		if err != nil {

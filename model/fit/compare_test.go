@@ -118,6 +118,7 @@ func fitBoth(t *testing.T, dir, sampler string) (straight, kinked *Run) {
 		if err != nil {
 			t.Fatal(err)
 		}
+		t.Cleanup(func() { r.Close() })
 		runs[i] = r
 	}
 	return runs[0], runs[1]
