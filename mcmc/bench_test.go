@@ -4,13 +4,14 @@ import (
 	"context"
 	"fmt"
 	"path/filepath"
+	"runtime"
 	"testing"
 )
 
 // Sampler overhead per walker-step with a trivial target (a standard normal,
 // a few nanoseconds per call), so that the time is the sampler's own:
 // proposal, acceptance, bookkeeping, the chain in memory and, in the "file"
-// case, the CSV chain file (without checkpoints, whose fsync calls measure
+// case, the .npy chain file (without checkpoints, whose fsync calls measure
 // the disk rather than the sampler). The one-off work before the first step
 // (the start) and after the last (the final τ estimate and the stuck-walker
 // check, see BenchmarkAutocorrTime) is left out. One benchmark operation is one step of the whole
@@ -44,7 +45,7 @@ func BenchmarkStep(b *testing.B) {
 			}
 			set := &Settings{Seed: 1, Walkers: c.walkers, Threads: c.threads, Steps: b.N, Thin: c.thin, Moves: c.moves}
 			if c.file {
-				set.ChainPath = filepath.Join(b.TempDir(), "chain.csv")
+				set.ChainPath = filepath.Join(b.TempDir(), "chain.npy")
 			}
 			filledSet, err := set.filled(c.dim)
 			if err != nil {
@@ -73,5 +74,35 @@ func BenchmarkAutocorrTime(b *testing.B) {
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
 		AutocorrTime(series, 0)
+	}
+}
+
+// BenchmarkChainMemory reports the heap a run's result holds per kept row (32 walkers,
+// 10 parameters), with the chain streamed to a file and without a file.
+func BenchmarkChainMemory(b *testing.B) {
+	for _, file := range []bool{true, false} {
+		b.Run(fmt.Sprintf("file=%v", file), func(b *testing.B) {
+			const steps, walkers, dim = 2000, 32, 10
+			target := func(x []float64) float64 { return -x[0] * x[0] / 2 }
+			for range b.N {
+				set := &Settings{Seed: 1, Walkers: walkers, Threads: 1, Steps: steps, CheckpointEvery: 500}
+				if file {
+					dir := b.TempDir()
+					set.ChainPath = filepath.Join(dir, "chain.npy")
+					set.CheckpointPath = filepath.Join(dir, "state.ckpt")
+				}
+				var before, after runtime.MemStats
+				runtime.GC()
+				runtime.ReadMemStats(&before)
+				res, err := Run(context.Background(), Problem{target, dim}, Start{Center: make([]float64, dim), Scale: filled(dim, 1)}, set)
+				if err != nil {
+					b.Fatal(err)
+				}
+				runtime.GC()
+				runtime.ReadMemStats(&after)
+				b.ReportMetric(float64(int64(after.HeapAlloc)-int64(before.HeapAlloc))/steps, "heap-B/row")
+				runtime.KeepAlive(res)
+			}
+		})
 	}
 }

@@ -2,12 +2,14 @@ package mcmc
 
 import (
 	"bufio"
+	"encoding/binary"
 	"encoding/csv"
 	"errors"
 	"fmt"
-	"hash/crc32"
 	"io"
+	"math"
 	"os"
+	"slices"
 	"strconv"
 	"strings"
 )
@@ -19,74 +21,170 @@ const (
 	colLogDensity = "log_density"
 )
 
-// Chain is a sampled chain held in memory: the positions and log-densities of
-// every walker at every kept step.
+// Chain is a sampled chain: the position and log-density of every walker at every kept
+// step. Its rows are held in memory (NewChain, ReadChain, MergeChains) or read on demand
+// from a chain file mapped into memory (OpenChain, and the Result of a run that writes a
+// chain file), so that a long chain costs no memory of its own. Values are copied out by
+// the methods; a Chain is safe for concurrent reading.
 type Chain struct {
 	// Names are the parameter names, one per coordinate.
 	Names []string
-	// Step is the step number (counted from 1) of each kept row.
-	Step []int
-	// X holds the positions, indexed [kept row][walker][parameter].
-	X [][][]float64
-	// LogDensity holds the log-densities, indexed [kept row][walker].
-	LogDensity [][]float64
+
+	walkers int
+	rows    int
+	rec     int         // bytes per record: step, walker, log-density, then the coordinates
+	mem     []byte      // the records, for a chain in memory
+	src     io.ReaderAt // the records, for a chain read from a file
+	base    int64       // offset of the first record in src
+	closer  io.Closer
 }
+
+// NewChain returns an empty chain in memory of the given parameter names and walkers, to
+// be filled with Append.
+func NewChain(names []string, walkers int) *Chain {
+	return &Chain{Names: append([]string(nil), names...), walkers: walkers, rec: recordSize(len(names))}
+}
+
+// recordSize is the byte length of one walker's record with n coordinates: the step and
+// the walker as int64, the log-density and the coordinates as float64.
+func recordSize(n int) int { return 8 * (3 + n) }
 
 // Len returns the number of kept rows.
-func (c *Chain) Len() int { return len(c.Step) }
+func (c *Chain) Len() int { return c.rows }
 
-// Walkers returns the number of walkers (0 for an empty chain).
-func (c *Chain) Walkers() int {
-	if len(c.X) == 0 {
-		return 0
-	}
-	return len(c.X[0])
-}
+// Walkers returns the number of walkers.
+func (c *Chain) Walkers() int { return c.walkers }
 
 // Dim returns the number of parameters.
 func (c *Chain) Dim() int { return len(c.Names) }
+
+// Append adds one kept step to a chain in memory: walker k is at pos[k] with log-density
+// lp[k].
+func (c *Chain) Append(step int, pos [][]float64, lp []float64) error {
+	if c.src != nil {
+		return errors.New("appending to a chain read from a file")
+	}
+	if len(pos) != c.walkers || len(lp) != c.walkers {
+		return fmt.Errorf("step %d has %d positions and %d log-densities for %d walkers", step, len(pos), len(lp), c.walkers)
+	}
+	for k, x := range pos {
+		if len(x) != c.Dim() {
+			return fmt.Errorf("step %d walker %d has %d values for %d parameters", step, k, len(x), c.Dim())
+		}
+		c.mem = appendRecord(c.mem, step, k, lp[k], x)
+	}
+	c.rows++
+	return nil
+}
+
+// appendRecord appends one walker's record, little-endian.
+func appendRecord(b []byte, step, walker int, lp float64, x []float64) []byte {
+	b = binary.LittleEndian.AppendUint64(b, uint64(step))
+	b = binary.LittleEndian.AppendUint64(b, uint64(walker))
+	b = binary.LittleEndian.AppendUint64(b, math.Float64bits(lp))
+	for _, v := range x {
+		b = binary.LittleEndian.AppendUint64(b, math.Float64bits(v))
+	}
+	return b
+}
+
+// read returns the bytes of rows [t, t+n) of the chain, in buf if it is large enough.
+func (c *Chain) read(t, n int, buf []byte) []byte {
+	size := n * c.walkers * c.rec
+	off := t * c.walkers * c.rec
+	if c.src == nil {
+		return c.mem[off : off+size]
+	}
+	if cap(buf) < size {
+		buf = make([]byte, size)
+	}
+	buf = buf[:size]
+	if _, err := c.src.ReadAt(buf, c.base+int64(off)); err != nil {
+		// The records were checked when the chain was opened; a failing read
+		// is a failing disk, which the caller cannot mend.
+		panic(fmt.Sprintf("mcmc: reading chain rows %d–%d: %v", t, t+n-1, err))
+	}
+	return buf
+}
+
+func field(b []byte, i int) uint64 { return binary.LittleEndian.Uint64(b[8*i:]) }
+
+// Step returns the step number (counted from 1) of kept row t.
+func (c *Chain) Step(t int) int { return int(field(c.read(t, 1, nil), 0)) }
+
+// Steps returns the step numbers of the kept rows.
+func (c *Chain) Steps() []int {
+	out := make([]int, c.rows)
+	var buf []byte
+	for t := range out {
+		buf = c.read(t, 1, buf)
+		out[t] = int(field(buf, 0))
+	}
+	return out
+}
+
+// LogDensity returns the log-density of walker k at kept row t.
+func (c *Chain) LogDensity(t, k int) float64 {
+	b := c.read(t, 1, nil)[k*c.rec:]
+	return math.Float64frombits(field(b, 2))
+}
+
+// Position copies the position of walker k at kept row t into dst, which is grown if
+// needed, and returns it.
+func (c *Chain) Position(t, k int, dst []float64) []float64 {
+	b := c.read(t, 1, nil)[k*c.rec:]
+	dst = slices.Grow(dst[:0], c.Dim())[:c.Dim()]
+	for j := range dst {
+		dst[j] = math.Float64frombits(field(b, 3+j))
+	}
+	return dst
+}
+
+// rowsPerRead is how many kept rows the bulk readers copy at once.
+const rowsPerRead = 64
+
+// each calls fn(t, k, record) for every walker of every kept row from first on.
+func (c *Chain) each(first int, fn func(t, k int, rec []byte)) {
+	var buf []byte
+	for t := max(first, 0); t < c.rows; t += rowsPerRead {
+		n := min(rowsPerRead, c.rows-t)
+		buf = c.read(t, n, buf)
+		for r := range n {
+			for k := range c.walkers {
+				off := (r*c.walkers + k) * c.rec
+				fn(t+r, k, buf[off:off+c.rec])
+			}
+		}
+	}
+}
+
+// clampBurn limits burn to [0, Len].
+func (c *Chain) clampBurn(burn int) int { return min(max(burn, 0), c.rows) }
 
 // Series returns the trace of parameter j for every walker, indexed
 // [walker][kept row], leaving out the first burn kept rows. The slices are
 // new; the chain is not modified.
 func (c *Chain) Series(j, burn int) [][]float64 {
-	if burn < 0 {
-		burn = 0
-	}
-	if burn > c.Len() {
-		burn = c.Len()
-	}
-	w := c.Walkers()
-	out := make([][]float64, w)
-	flat := make([]float64, w*(c.Len()-burn))
-	for k := range out {
-		out[k] = flat[k*(c.Len()-burn) : (k+1)*(c.Len()-burn)]
-	}
-	for t := burn; t < c.Len(); t++ {
-		for k := 0; k < w; k++ {
-			out[k][t-burn] = c.X[t][k][j]
-		}
-	}
-	return out
+	return c.column(3+j, burn)
 }
 
 // LogDensitySeries returns the log-density trace of every walker, indexed
 // [walker][kept row], leaving out the first burn kept rows.
 func (c *Chain) LogDensitySeries(burn int) [][]float64 {
-	if burn < 0 {
-		burn = 0
-	}
-	if burn > c.Len() {
-		burn = c.Len()
-	}
-	w := c.Walkers()
-	out := make([][]float64, w)
+	return c.column(2, burn)
+}
+
+func (c *Chain) column(i, burn int) [][]float64 {
+	burn = c.clampBurn(burn)
+	n := c.rows - burn
+	out := make([][]float64, c.walkers)
+	flat := make([]float64, c.walkers*n)
 	for k := range out {
-		out[k] = make([]float64, c.Len()-burn)
-		for t := burn; t < c.Len(); t++ {
-			out[k][t-burn] = c.LogDensity[t][k]
-		}
+		out[k] = flat[k*n : (k+1)*n : (k+1)*n]
 	}
+	c.each(burn, func(t, k int, rec []byte) {
+		out[k][t-burn] = math.Float64frombits(field(rec, i))
+	})
 	return out
 }
 
@@ -94,62 +192,71 @@ func (c *Chain) LogDensitySeries(burn int) [][]float64 {
 // flat sample, indexed [sample][parameter], walker by walker within each row.
 // The rows share no memory with the chain.
 func (c *Chain) Samples(burn int) [][]float64 {
-	if burn < 0 {
-		burn = 0
-	}
-	if burn > c.Len() {
-		burn = c.Len()
-	}
-	w, n := c.Walkers(), c.Dim()
-	out := make([][]float64, 0, (c.Len()-burn)*w)
-	flat := make([]float64, (c.Len()-burn)*w*n)
-	for t := burn; t < c.Len(); t++ {
-		for k := 0; k < w; k++ {
-			row := flat[:n:n]
-			flat = flat[n:]
-			copy(row, c.X[t][k])
-			out = append(out, row)
+	burn = c.clampBurn(burn)
+	n := c.Dim()
+	out := make([][]float64, 0, (c.rows-burn)*c.walkers)
+	flat := make([]float64, (c.rows-burn)*c.walkers*n)
+	c.each(burn, func(t, k int, rec []byte) {
+		row := flat[:n:n]
+		flat = flat[n:]
+		for j := range row {
+			row[j] = math.Float64frombits(field(rec, 3+j))
 		}
-	}
+		out = append(out, row)
+	})
 	return out
 }
 
-// MergeChains places the walkers of several chains side by side in one chain,
-// for instance to summarise independent runs together. All chains must have
-// the same parameter names and the same walker count is not required; the
-// result holds the kept steps common to all, which must come in the same
-// order, and is cut to the shortest chain.
+// Close releases the file behind a chain read from one; the chain may not be used
+// afterwards. It does nothing for a chain in memory.
+func (c *Chain) Close() error {
+	if c.closer == nil {
+		return nil
+	}
+	err := c.closer.Close()
+	c.closer, c.src, c.rows = nil, nil, 0
+	return err
+}
+
+// MergeChains places the walkers of several chains side by side in one chain
+// in memory, for instance to summarise independent runs together. All chains
+// must have the same parameter names; the walker counts may differ. The result
+// holds the kept steps common to all, which must come in the same order, and
+// is cut to the shortest chain.
 func MergeChains(chains ...*Chain) (*Chain, error) {
 	if len(chains) == 0 {
 		return nil, errors.New("merging chains: no chains")
 	}
 	first := chains[0]
-	rows := first.Len()
+	rows, walkers := first.Len(), 0
 	for i, c := range chains {
 		if !equalStrings(c.Names, first.Names) {
 			return nil, fmt.Errorf("merging chains: chain %d has parameters %v, chain 0 has %v", i, c.Names, first.Names)
 		}
 		rows = min(rows, c.Len())
+		walkers += c.Walkers()
 	}
+	steps := first.Steps()
 	for i, c := range chains {
-		for t := 0; t < rows; t++ {
-			if c.Step[t] != first.Step[t] {
-				return nil, fmt.Errorf("merging chains: row %d is step %d in chain %d but step %d in chain 0", t, c.Step[t], i, first.Step[t])
+		for t, s := range c.Steps()[:rows] {
+			if s != steps[t] {
+				return nil, fmt.Errorf("merging chains: row %d is step %d in chain %d but step %d in chain 0", t, s, i, steps[t])
 			}
 		}
 	}
-	out := &Chain{
-		Names:      append([]string(nil), first.Names...),
-		Step:       append([]int(nil), first.Step[:rows]...),
-		X:          make([][][]float64, rows),
-		LogDensity: make([][]float64, rows),
-	}
+	out := NewChain(first.Names, walkers)
+	pos := make([][]float64, 0, walkers)
+	lp := make([]float64, 0, walkers)
 	for t := 0; t < rows; t++ {
+		pos, lp = pos[:0], lp[:0]
 		for _, c := range chains {
-			for k := range c.X[t] {
-				out.X[t] = append(out.X[t], append([]float64(nil), c.X[t][k]...))
+			for k := range c.Walkers() {
+				pos = append(pos, c.Position(t, k, nil))
+				lp = append(lp, c.LogDensity(t, k))
 			}
-			out.LogDensity[t] = append(out.LogDensity[t], c.LogDensity[t]...)
+		}
+		if err := out.Append(steps[t], pos, lp); err != nil {
+			return nil, fmt.Errorf("merging chains: %w", err)
 		}
 	}
 	return out, nil
@@ -187,18 +294,6 @@ func checkNames(names []string, dim int) error {
 	return nil
 }
 
-// chainWriter appends rows to a chain file, keeping the byte count and the
-// CRC-32C of everything written so that checkpoints can vouch for the file.
-type chainWriter struct {
-	f    *os.File
-	w    *bufio.Writer
-	size int64
-	crc  uint32
-	line []byte
-}
-
-var castagnoli = crc32.MakeTable(crc32.Castagnoli)
-
 // appendHeader appends the comment lines and the header line of a chain file.
 func appendHeader(b []byte, comments, names []string) []byte {
 	for _, c := range comments {
@@ -230,11 +325,9 @@ func appendRow(b []byte, step, walker int, lp float64, x []float64) []byte {
 	return append(b, '\n')
 }
 
-// WriteChain writes a chain in the chain-file layout (see the package
-// documentation), with the given comment lines at the top; for example to
-// save chains merged with MergeChains. Run writes its chain file the same
-// way, so that a chain written by WriteChain with the run's comments has the
-// same bytes as the run's own file.
+// WriteChain writes a chain as CSV (see the package documentation), with the
+// given comment lines at the top; for example to hand chains merged with
+// MergeChains to tools that read text.
 func WriteChain(w io.Writer, c *Chain, comments []string) error {
 	if err := checkNames(c.Names, len(c.Names)); err != nil {
 		return fmt.Errorf("writing chain: %w", err)
@@ -243,13 +336,15 @@ func WriteChain(w io.Writer, c *Chain, comments []string) error {
 	if _, err := bw.Write(appendHeader(nil, comments, c.Names)); err != nil {
 		return fmt.Errorf("writing chain: %w", err)
 	}
-	var line []byte
-	for t := range c.X {
-		for k, x := range c.X[t] {
-			if len(x) != len(c.Names) {
-				return fmt.Errorf("writing chain: step %d walker %d has %d values for %d parameters", c.Step[t], k, len(x), len(c.Names))
-			}
-			line = appendRow(line[:0], c.Step[t], k, c.LogDensity[t][k], x)
+	var (
+		line []byte
+		x    []float64
+	)
+	for t := range c.Len() {
+		step := c.Step(t)
+		for k := range c.Walkers() {
+			x = c.Position(t, k, x)
+			line = appendRow(line[:0], step, k, c.LogDensity(t, k), x)
 			if _, err := bw.Write(line); err != nil {
 				return fmt.Errorf("writing chain: %w", err)
 			}
@@ -261,107 +356,9 @@ func WriteChain(w io.Writer, c *Chain, comments []string) error {
 	return nil
 }
 
-// createChainFile creates (or truncates) the chain file at path and writes
-// the comment lines and the header.
-func createChainFile(path string, comments []string, names []string) (*chainWriter, error) {
-	f, err := os.Create(path)
-	if err != nil {
-		return nil, fmt.Errorf("creating chain file: %w", err)
-	}
-	cw := &chainWriter{f: f, w: bufio.NewWriterSize(f, 1<<16)}
-	if err := cw.write(appendHeader(nil, comments, names)); err != nil {
-		f.Close()
-		return nil, fmt.Errorf("writing chain file %s: %w", path, err)
-	}
-	return cw, nil
-}
-
-func (cw *chainWriter) write(b []byte) error {
-	n, err := cw.w.Write(b)
-	cw.size += int64(n)
-	cw.crc = crc32.Update(cw.crc, castagnoli, b[:n])
-	return err
-}
-
-// writeStep appends the rows of one kept step.
-func (cw *chainWriter) writeStep(step int, pos [][]float64, lp []float64) error {
-	for k, x := range pos {
-		cw.line = appendRow(cw.line[:0], step, k, lp[k], x)
-		if err := cw.write(cw.line); err != nil {
-			return fmt.Errorf("writing chain file %s: %w", cw.f.Name(), err)
-		}
-	}
-	return nil
-}
-
-// sync flushes buffered rows and forces them to stable storage.
-func (cw *chainWriter) sync() error {
-	if err := cw.w.Flush(); err != nil {
-		return fmt.Errorf("writing chain file %s: %w", cw.f.Name(), err)
-	}
-	if err := cw.f.Sync(); err != nil {
-		return fmt.Errorf("syncing chain file %s: %w", cw.f.Name(), err)
-	}
-	return nil
-}
-
-func (cw *chainWriter) close() error {
-	err := cw.w.Flush()
-	if cerr := cw.f.Close(); err == nil {
-		err = cerr
-	}
-	if err != nil {
-		return fmt.Errorf("closing chain file %s: %w", cw.f.Name(), err)
-	}
-	return nil
-}
-
-// reopenChainFile checks the chain file at path against the length and
-// CRC-32C a checkpoint recorded, cuts off anything beyond that length (rows
-// written after the checkpoint, or a partial last row) and opens the file for
-// appending. It returns the writer and the chain read back from the kept part.
-func reopenChainFile(path string, size int64, crc uint32) (*chainWriter, *Chain, error) {
-	f, err := os.OpenFile(path, os.O_RDWR, 0)
-	if err != nil {
-		return nil, nil, fmt.Errorf("resuming: opening chain file: %w", err)
-	}
-	fail := func(err error) (*chainWriter, *Chain, error) {
-		f.Close()
-		return nil, nil, err
-	}
-	info, err := f.Stat()
-	if err != nil {
-		return fail(fmt.Errorf("resuming: %w", err))
-	}
-	if info.Size() < size {
-		return fail(fmt.Errorf("resuming: chain file %s has %d bytes but the checkpoint vouches for %d: the file was truncated", path, info.Size(), size))
-	}
-	h := crc32.New(castagnoli)
-	if _, err := io.Copy(h, io.NewSectionReader(f, 0, size)); err != nil {
-		return fail(fmt.Errorf("resuming: reading chain file %s: %w", path, err))
-	}
-	if h.Sum32() != crc {
-		return fail(fmt.Errorf("resuming: chain file %s does not match its checkpoint (CRC-32C of the first %d bytes differs): the file was changed or corrupted", path, size))
-	}
-	if info.Size() > size {
-		if err := f.Truncate(size); err != nil {
-			return fail(fmt.Errorf("resuming: cutting chain file %s back to %d bytes: %w", path, size, err))
-		}
-		if err := f.Sync(); err != nil {
-			return fail(fmt.Errorf("resuming: syncing chain file %s: %w", path, err))
-		}
-	}
-	chain, err := ReadChain(io.NewSectionReader(f, 0, size))
-	if err != nil {
-		return fail(fmt.Errorf("resuming: chain file %s: %w", path, err))
-	}
-	if _, err := f.Seek(size, io.SeekStart); err != nil {
-		return fail(fmt.Errorf("resuming: %w", err))
-	}
-	return &chainWriter{f: f, w: bufio.NewWriterSize(f, 1<<16), size: size, crc: crc}, chain, nil
-}
-
-// ReadChainFile reads a chain file written by Run; see ReadChain. Errors name
+// ReadChainFile reads a chain file: a .npy chain as Run writes it (opened with
+// OpenChain, memory-mapped; Close it when done) or a CSV chain (see ReadChain,
+// read into memory). The format is told by the file's first bytes. Errors name
 // the file.
 func ReadChainFile(path string) (*Chain, error) {
 	f, err := os.Open(path)
@@ -369,7 +366,12 @@ func ReadChainFile(path string) (*Chain, error) {
 		return nil, fmt.Errorf("reading chain: %w", err)
 	}
 	defer f.Close()
-	c, err := ReadChain(bufio.NewReaderSize(f, 1<<16))
+	br := bufio.NewReaderSize(f, 1<<16)
+	if magic, _ := br.Peek(len(npyMagic)); string(magic) == npyMagic {
+		f.Close()
+		return OpenChain(path)
+	}
+	c, err := ReadChain(br)
 	if err != nil {
 		return nil, fmt.Errorf("reading chain file %s: %w", path, err)
 	}
@@ -399,33 +401,34 @@ func ReadChain(r io.Reader) (*Chain, error) {
 		return nil, fmt.Errorf("header %q: want %s,%s,%s followed by the parameter names", strings.Join(header, ","), colStep, colWalker, colLogDensity)
 	}
 	n := len(header) - 3
-	c := &Chain{Names: append([]string(nil), header[3:]...)}
+	c := NewChain(header[3:], 0)
 	if err := checkNames(c.Names, n); err != nil {
 		return nil, fmt.Errorf("header: %w", err)
 	}
 	cr.FieldsPerRecord = len(header)
 	walkers := -1 // fixed by the first step
 	var (
-		flat  []float64
-		row   [][]float64
-		lps   []float64
+		rec   []byte // the records of the open step
+		count int    // walkers in the open step
 		step  int
 		group bool // a step is open
 	)
 	closeStep := func() error {
 		if walkers < 0 {
-			walkers = len(row)
+			walkers = count
+			c.walkers = count
 		}
-		if len(row) != walkers {
-			return fmt.Errorf("step %d has %d walkers, earlier steps have %d", step, len(row), walkers)
+		if count != walkers {
+			return fmt.Errorf("step %d has %d walkers, earlier steps have %d", step, count, walkers)
 		}
-		c.X = append(c.X, row)
-		c.LogDensity = append(c.LogDensity, lps)
-		c.Step = append(c.Step, step)
+		c.mem = append(c.mem, rec...)
+		c.rows++
+		rec, count = rec[:0], 0
 		return nil
 	}
+	x := make([]float64, n)
 	for {
-		rec, err := cr.Read()
+		r, err := cr.Read()
 		if err == io.EOF {
 			break
 		}
@@ -438,13 +441,13 @@ func ReadChain(r io.Reader) (*Chain, error) {
 			return nil, err
 		}
 		line, _ := cr.FieldPos(0)
-		s, err := strconv.Atoi(rec[0])
+		s, err := strconv.Atoi(r[0])
 		if err != nil {
-			return nil, fmt.Errorf("line %d: step %q is not an integer", line, rec[0])
+			return nil, fmt.Errorf("line %d: step %q is not an integer", line, r[0])
 		}
-		k, err := strconv.Atoi(rec[1])
+		k, err := strconv.Atoi(r[1])
 		if err != nil {
-			return nil, fmt.Errorf("line %d: walker %q is not an integer", line, rec[1])
+			return nil, fmt.Errorf("line %d: walker %q is not an integer", line, r[1])
 		}
 		if !group || s != step {
 			if group {
@@ -456,31 +459,23 @@ func ReadChain(r io.Reader) (*Chain, error) {
 				}
 			}
 			step, group = s, true
-			size := max(walkers, 16)
-			row = make([][]float64, 0, size)
-			lps = make([]float64, 0, size)
 		}
-		if k != len(row) {
-			return nil, fmt.Errorf("line %d: step %d has walker %d where walker %d is due", line, s, k, len(row))
+		if k != count {
+			return nil, fmt.Errorf("line %d: step %d has walker %d where walker %d is due", line, s, k, count)
 		}
-		lp, err := strconv.ParseFloat(rec[2], 64)
+		lp, err := strconv.ParseFloat(r[2], 64)
 		if err != nil {
-			return nil, fmt.Errorf("line %d: log-density %q is not a number", line, rec[2])
+			return nil, fmt.Errorf("line %d: log-density %q is not a number", line, r[2])
 		}
-		if len(flat) < n {
-			flat = make([]float64, n*1024)
-		}
-		x := flat[:n:n]
-		flat = flat[n:]
 		for j := 0; j < n; j++ {
-			v, err := strconv.ParseFloat(rec[3+j], 64)
+			v, err := strconv.ParseFloat(r[3+j], 64)
 			if err != nil {
-				return nil, fmt.Errorf("line %d: %s = %q is not a number", line, c.Names[j], rec[3+j])
+				return nil, fmt.Errorf("line %d: %s = %q is not a number", line, c.Names[j], r[3+j])
 			}
 			x[j] = v
 		}
-		row = append(row, x)
-		lps = append(lps, lp)
+		rec = appendRecord(rec, s, k, lp, x)
+		count++
 	}
 	if tail.count > 0 && tail.last != '\n' {
 		return nil, errors.New("the last line has no line break: the file was cut short")

@@ -8,13 +8,12 @@ import (
 	"hash/crc32"
 	"math"
 	"os"
-	"path/filepath"
 )
 
 // checkpointMagic opens every checkpoint file; checkpointVersion is its layout.
 const (
 	checkpointMagic   = "MCMCCKPT"
-	checkpointVersion = 1
+	checkpointVersion = 2
 	checkpointHeader  = 8 + 4 + 8 // magic, version, payload length
 )
 
@@ -40,8 +39,9 @@ type Checkpoint struct {
 	Accepted []int
 	// Kept is the number of kept steps written to the chain file.
 	Kept int
-	// ChainBytes is the chain file's length at the checkpoint and ChainCRC
-	// the CRC-32C (Castagnoli) of those bytes.
+	// ChainBytes is the chain file's length at the checkpoint, header
+	// included, and ChainCRC the CRC-32C (Castagnoli) of its rows (the bytes
+	// after the header, which is rewritten as rows are added).
 	ChainBytes int64
 	ChainCRC   uint32
 	// LastTau is the autocorrelation time per parameter, in steps, at the
@@ -185,41 +185,6 @@ func LoadCheckpoint(path string) (*Checkpoint, error) {
 		return nil, fmt.Errorf("checkpoint %s: %w", path, err)
 	}
 	return c, nil
-}
-
-// writeFileAtomic replaces path with data so that a reader sees either the
-// old or the new contents: it writes a temporary file in the same folder,
-// forces it to stable storage, renames it over path and syncs the folder.
-func writeFileAtomic(path string, data []byte) error {
-	dir := filepath.Dir(path)
-	f, err := os.CreateTemp(dir, filepath.Base(path)+".tmp*")
-	if err != nil {
-		return err
-	}
-	tmp := f.Name()
-	if _, err := f.Write(data); err != nil {
-		f.Close()
-		os.Remove(tmp)
-		return err
-	}
-	if err := f.Sync(); err != nil {
-		f.Close()
-		os.Remove(tmp)
-		return err
-	}
-	if err := f.Close(); err != nil {
-		os.Remove(tmp)
-		return err
-	}
-	if err := os.Rename(tmp, path); err != nil {
-		os.Remove(tmp)
-		return err
-	}
-	if d, err := os.Open(dir); err == nil {
-		d.Sync() // not supported everywhere; the rename itself has happened
-		d.Close()
-	}
-	return nil
 }
 
 // encoder writes unsigned varints, float64 bit patterns and length-prefixed

@@ -31,30 +31,30 @@
 //
 // # Chain file
 //
-// The chain is appended to a CSV file (comma-separated as in RFC 4180, but
-// with '\n' line ends; UTF-8; no quoting is ever needed, since parameter
-// names may not contain commas, quotes or line breaks) that any tool can
-// read:
+// A run with Settings.ChainPath streams its kept steps to a NumPy .npy file
+// (format 1.0, or 2.0 for very long headers and 3.0 for non-ASCII names, as
+// in NumPy's numpy.lib.format documentation and NEP 1) and holds no copy of
+// the chain in memory; diagnostics during the run and the Result's Chain read
+// the file back, the latter memory-mapped. The array has shape
+// (kept steps, walkers), in C order, and a structured dtype of little-endian
+// 8-byte fields:
 //
-//	# optional comment lines, each starting with '#', only at the top
-//	step,walker,log_density,NAME_1,...,NAME_n
-//	1,0,-3.2188758248682006,0.5,-1.25
-//	1,1,-2.772588722239781,0.25,0.75
-//	...
+//	step         int64    the step number counted from 1 (every Settings.Thin-th)
+//	walker       int64    the walker's index from 0 to W−1
+//	log_density  float64  the target's log-density at the position, as returned
+//	NAME_1 …     float64  one field per parameter, named by Settings.Names
 //
-// step is the step number counted from 1 (only kept steps appear, every
-// Settings.Thin-th); walker is the walker's index from 0 to W−1;
-// log_density is the target's log-density at the position (natural log, up
-// to the target's additive constant, as the target returned it); then one
-// column per parameter, named by Settings.Names, in the target's own units.
-// There is one row per walker per kept step, walkers in order within a step,
-// steps increasing. Numbers are written in the shortest form that reads back
-// to the same float64, so a chain read back with ReadChain is identical to
-// the one in memory. The file is flushed and synced at every checkpoint;
-// rows after the last checkpoint may be lost or cut in a crash, and are cut
-// back when the run is resumed. Other tools read the file by skipping the
-// '#' lines, for example pandas.read_csv(path, comment="#") in Python or
-// read.csv(path, comment.char = "#") in R.
+// In Python, c = numpy.load(path, mmap_mode="r") opens it without reading it;
+// c["NAME"][:, k] is walker k's trace and c["NAME"][burn:].ravel() a sample.
+// The header states how many steps the file holds; it is rewritten in place
+// (it keeps its length) whenever the file is synced, at every checkpoint and
+// at the end, so a reader sees every step up to the last checkpoint. Rows
+// after it may be lost or cut in a crash; they are cut back when the run is
+// resumed. OpenChain and ReadChainFile read the file; ReadChain and
+// WriteChain read and write the same chain as CSV (header
+// step,walker,log_density,NAME…, one line per walker per kept step, numbers
+// in the shortest form that reads back to the same float64, optional '#'
+// comment lines at the top) for tools that want text.
 //
 // # Checkpoints
 //
@@ -62,7 +62,7 @@
 // log-densities, acceptance counts, every walker's random-stream state, the
 // move-choice stream, the step, the last autocorrelation estimate, the
 // settings that must not change (seed, walkers, dimension, thinning, names,
-// moves), the chain file's length and CRC-32C, and the caller's own bytes
+// moves), the chain file's length and the CRC-32C of its rows, and the caller's own bytes
 // (CheckpointReply.Extra). It is binary: the 8 bytes "MCMCCKPT", a
 // little-endian uint32 layout version, a uint64 payload length, the payload,
 // and a CRC-32C (Castagnoli) of all that precedes it. It is replaced
@@ -79,4 +79,14 @@
 // 667), and FlagStuck. Summarize applies them to every parameter of a Chain.
 // A finished run is read back with ReadChainFile; runs are combined with
 // MergeChains and written with WriteChain.
+//
+// # Comparing models
+//
+// PSISLOO estimates a model's expected log predictive density for new data
+// by Pareto-smoothed importance-sampling leave-one-out cross-validation
+// (Vehtari, Gelman & Gabry 2017, Stat. Comput. 27, 1413; Vehtari et al.
+// 2024, JMLR 25, 72) from a matrix of pointwise log-likelihoods, with the
+// Pareto k̂ of every observation (ParetoSmooth, GPDFit); ComputeWAIC gives
+// WAIC from the same matrix, and PairedDifference the difference of two
+// models with its standard error. They agree with the R package loo.
 package mcmc

@@ -21,11 +21,15 @@ type MAPSettings struct {
 	// MaxEvaluations bounds the number of log-density evaluations over all
 	// restarts. Zero means 2000·(n+1) for n parameters.
 	MaxEvaluations int
-	// Restarts is the number of times the search is started afresh from the
-	// best point found, with a new simplex, which guards against the
-	// simplex collapsing before the maximum is reached. Zero means 2; a
-	// negative value means none.
+	// Restarts is the largest number of times the search is started afresh
+	// from the best point found, with a new simplex, which guards against the
+	// simplex collapsing before the maximum is reached. Restarts stop once
+	// one gains less than Settle. Zero means 2; a negative value means none.
 	Restarts int
+	// Settle is the gain in log-density below which a restart counts as
+	// having found nothing more: the search has then settled. Zero means
+	// 1e-4.
+	Settle float64
 	// Tolerance is the change in log-density below which a search is
 	// considered converged (absolute, in log-density units). Zero means 1e-9.
 	Tolerance float64
@@ -39,9 +43,14 @@ type MAPResult struct {
 	LogDensity float64
 	// Evaluations is the number of log-density evaluations used.
 	Evaluations int
-	// Converged is false when the evaluation budget ran out before the last
-	// search converged.
+	// Converged is true when the last search converged (its simplex's
+	// values agreed within Tolerance) and a restart from its point gained
+	// less than Settle; false when the budget or the restarts ran out first.
 	Converged bool
+	// Rounds is the number of searches run (the first and its restarts), and
+	// LastGain the log-density the last of them gained.
+	Rounds   int
+	LastGain float64
 }
 
 // FindMAP searches for the maximum of a log-density, starting from x0, with
@@ -98,6 +107,10 @@ func FindMAP(logDensity func(x []float64) float64, x0 []float64, s *MAPSettings)
 	tol := s.Tolerance
 	if tol == 0 {
 		tol = 1e-9
+	}
+	settle := s.Settle
+	if settle == 0 {
+		settle = 1e-4
 	}
 
 	centre := append([]float64(nil), x0...)
@@ -163,8 +176,10 @@ func FindMAP(logDensity func(x []float64) float64, x0 []float64, s *MAPSettings)
 			}
 			res.LogDensity = -r.F
 		}
-		res.Converged = r.Status == optimize.FunctionConvergence
-		if round > 0 && improved <= tol {
+		res.Rounds, res.LastGain = round+1, math.Max(improved, 0)
+		converged := r.Status == optimize.FunctionConvergence
+		res.Converged = converged && round > 0 && improved <= settle
+		if res.Converged {
 			break
 		}
 	}

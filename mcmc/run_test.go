@@ -133,11 +133,9 @@ func TestStartOutsideSupport(t *testing.T) {
 		return -x[0]*x[0]/2 - x[1]*x[1]/2
 	}
 	res := mustRun(t, Problem{half, 2}, Start{Center: []float64{0, 0}, Scale: []float64{1, 1}}, &Settings{Seed: 2, Steps: 20})
-	for k := range res.Chain.X {
-		for _, x := range res.Chain.X[k] {
-			if x[0] < 0 {
-				t.Fatalf("walker outside the support at %v", x)
-			}
+	for _, x := range res.Chain.Samples(0) {
+		if x[0] < 0 {
+			t.Fatalf("walker outside the support at %v", x)
 		}
 	}
 	// A support the ball almost never hits: a clear error after MaxDraws.

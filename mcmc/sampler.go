@@ -10,9 +10,9 @@ import (
 	"os"
 	"strconv"
 	"strings"
-	"sync"
-	"sync/atomic"
 	"time"
+
+	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
 )
 
 // Status says why a run stopped.
@@ -143,7 +143,7 @@ func Run(ctx context.Context, p Problem, start Start, settings *Settings) (*Resu
 	if err := s.loop(ctx); err != nil {
 		return nil, fmt.Errorf("mcmc: %w", err)
 	}
-	return s.result(), nil
+	return s.result()
 }
 
 // sampler is the state of one run.
@@ -169,11 +169,8 @@ type sampler struct {
 	extra     []byte
 	mapRes    *MAPResult
 
-	chain  *Chain
-	slab   []float64   // spare storage for kept positions
-	hslab  [][]float64 // spare row headers
-	lpslab []float64
-	cw     *chainWriter
+	chain *Chain // in memory, or read back through cw
+	cw    *chainWriter
 
 	pool    *pool
 	scratch [][]float64 // one proposal buffer per worker
@@ -223,7 +220,7 @@ func newSampler(p Problem, set Settings) *sampler {
 	}
 	s.errs = make([]error, s.nw)
 	s.advance = s.advanceWalker
-	s.chain = &Chain{Names: append([]string(nil), set.Names...)}
+	s.chain = NewChain(set.Names, s.nw)
 	return s
 }
 
@@ -343,11 +340,11 @@ func (s *sampler) begin(st Start) error {
 		return err
 	}
 	if s.set.ChainPath != "" {
-		cw, err := createChainFile(s.set.ChainPath, s.set.Comments, s.set.Names)
+		cw, err := createChainFile(s.set.ChainPath, s.set.Names, s.nw)
 		if err != nil {
 			return err
 		}
-		s.cw = cw
+		s.cw, s.chain = cw, cw.view()
 	}
 	if s.set.CheckpointPath != "" || s.set.OnCheckpoint != nil {
 		return s.checkpoint(false)
@@ -395,18 +392,14 @@ func (s *sampler) restore() error {
 	s.lastTau = ck.LastTau
 	s.converged = ck.Converged
 	s.extra = ck.Extra
-	cw, chain, err := reopenChainFile(s.set.ChainPath, ck.ChainBytes, ck.ChainCRC)
+	cw, err := reopenChainFile(s.set.ChainPath, s.set.Names, s.nw, ck.ChainBytes, ck.ChainCRC)
 	if err != nil {
 		return err
 	}
-	s.cw = cw
-	if !equalStrings(chain.Names, s.set.Names) {
-		return fmt.Errorf("resuming: chain file %s has columns %v, want %v", s.set.ChainPath, chain.Names, s.set.Names)
+	s.cw, s.chain = cw, cw.view()
+	if cw.rows != ck.Kept {
+		return fmt.Errorf("resuming: chain file %s holds %d steps, the checkpoint expects %d", s.set.ChainPath, cw.rows, ck.Kept)
 	}
-	if chain.Len() != ck.Kept || (chain.Len() > 0 && chain.Walkers() != s.nw) {
-		return fmt.Errorf("resuming: chain file %s holds %d steps of %d walkers, the checkpoint expects %d of %d", s.set.ChainPath, chain.Len(), chain.Walkers(), ck.Kept, s.nw)
-	}
-	s.chain = chain
 	return nil
 }
 
@@ -532,34 +525,16 @@ func (s *sampler) advanceWalker(worker, k int) {
 	s.accepted[i]++
 }
 
-// keep appends the current state to the chain in memory and the chain file.
+// keep appends the current state to the chain file, or to the chain in memory
+// when there is no file.
 func (s *sampler) keep() error {
-	n := s.nw * s.dim
-	if len(s.slab) < n || len(s.hslab) < s.nw || len(s.lpslab) < s.nw {
-		rows := 256
-		if s.set.Steps > 0 {
-			rows = max(1, min(rows, (s.set.Steps-s.step)/s.set.Thin+1))
-		}
-		s.slab = make([]float64, rows*n)
-		s.hslab = make([][]float64, rows*s.nw)
-		s.lpslab = make([]float64, rows*s.nw)
+	if s.cw == nil {
+		return s.chain.Append(s.step, s.pos, s.lp)
 	}
-	row := s.hslab[:s.nw:s.nw]
-	s.hslab = s.hslab[s.nw:]
-	for i := range row {
-		row[i] = s.slab[:s.dim:s.dim]
-		s.slab = s.slab[s.dim:]
-		copy(row[i], s.pos[i])
+	if err := s.cw.writeStep(s.step, s.pos, s.lp); err != nil {
+		return err
 	}
-	lp := s.lpslab[:s.nw:s.nw]
-	s.lpslab = s.lpslab[s.nw:]
-	copy(lp, s.lp)
-	s.chain.X = append(s.chain.X, row)
-	s.chain.LogDensity = append(s.chain.LogDensity, lp)
-	s.chain.Step = append(s.chain.Step, s.step)
-	if s.cw != nil {
-		return s.cw.writeStep(s.step, s.pos, s.lp)
-	}
+	s.chain.rows = s.cw.rows
 	return nil
 }
 
@@ -678,8 +653,8 @@ func (s *sampler) checkpoint(final bool) error {
 		return fmt.Errorf("checkpoint at step %d: %w", s.step, err)
 	}
 	ck.moveStream = b
-	if err := writeFileAtomic(s.set.CheckpointPath, ck.encode()); err != nil {
-		return fmt.Errorf("writing checkpoint %s: %w", s.set.CheckpointPath, err)
+	if err := atomicfile.Write(s.set.CheckpointPath, ck.encode()); err != nil {
+		return fmt.Errorf("checkpoint at step %d: %w", s.step, err)
 	}
 	return nil
 }
@@ -721,8 +696,9 @@ func (s *sampler) progress(began time.Time, first int, done bool) Progress {
 	return pr
 }
 
-// result assembles the Result.
-func (s *sampler) result() *Result {
+// result assembles the Result. A chain written to a file is handed over read
+// back from the file, memory-mapped.
+func (s *sampler) result() (*Result, error) {
 	r := &Result{
 		Chain:      s.chain,
 		Step:       s.step,
@@ -754,69 +730,12 @@ func (s *sampler) result() *Result {
 		r.Stuck = FlagStuck(r.AcceptanceFraction(), s.chain.LogDensitySeries(s.chain.Len()/2),
 			s.set.StuckAcceptance, s.set.StuckGap)
 	}
-	return r
-}
-
-// pool is a fixed set of goroutines that share out the indices 0…n−1 of a
-// job; the calling goroutine works as worker 0.
-type pool struct {
-	threads int
-	jobs    []chan poolJob
-	wg      sync.WaitGroup
-	next    atomic.Int64
-}
-
-type poolJob struct {
-	n  int
-	fn func(worker, k int)
-}
-
-func newPool(threads int) *pool {
-	p := &pool{threads: max(1, threads)}
-	for w := 1; w < p.threads; w++ {
-		ch := make(chan poolJob)
-		p.jobs = append(p.jobs, ch)
-		go func(w int) {
-			for j := range ch {
-				p.work(w, j.n, j.fn)
-				p.wg.Done()
-			}
-		}(w)
-	}
-	return p
-}
-
-// run calls fn(worker, k) for k = 0…n−1, spread over the pool, and waits.
-func (p *pool) run(n int, fn func(worker, k int)) {
-	t := min(p.threads, n)
-	if t <= 1 {
-		for k := 0; k < n; k++ {
-			fn(0, k)
+	if s.cw != nil {
+		c, err := OpenChain(s.set.ChainPath)
+		if err != nil {
+			return nil, fmt.Errorf("mcmc: %w", err)
 		}
-		return
+		r.Chain = c
 	}
-	p.next.Store(0)
-	p.wg.Add(t - 1)
-	for w := 1; w < t; w++ {
-		p.jobs[w-1] <- poolJob{n, fn}
-	}
-	p.work(0, n, fn)
-	p.wg.Wait()
-}
-
-func (p *pool) work(w, n int, fn func(worker, k int)) {
-	for {
-		k := int(p.next.Add(1)) - 1
-		if k >= n {
-			return
-		}
-		fn(w, k)
-	}
-}
-
-func (p *pool) stop() {
-	for _, ch := range p.jobs {
-		close(ch)
-	}
-	p.jobs = nil
+	return r, nil
 }

@@ -99,11 +99,10 @@ type Settings struct {
 	// a checkpoint and returns with Status TimeLimit. Zero means none.
 	MaxDuration time.Duration
 
-	// ChainPath is the chain file (CSV, see the package documentation).
-	// Empty means no file: the chain is kept in memory only.
+	// ChainPath is the chain file (a NumPy .npy file, see the package
+	// documentation), to which kept steps are streamed; the chain is then not
+	// held in memory. Empty means no file: the chain is kept in memory only.
 	ChainPath string
-	// Comments are written as '#' lines at the top of a new chain file.
-	Comments []string
 	// CheckpointPath is the checkpoint file. Empty means no checkpoint
 	// file; a checkpoint file needs a chain file.
 	CheckpointPath string

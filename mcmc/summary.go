@@ -149,7 +149,7 @@ func Summarize(c *Chain, burn int, probs []float64) []ParamSummary {
 	out := make([]ParamSummary, c.Dim())
 	spacing := 1
 	if c.Len() >= 2 {
-		spacing = c.Step[1] - c.Step[0]
+		spacing = c.Step(1) - c.Step(0)
 	}
 	for j := range out {
 		series := c.Series(j, burn)

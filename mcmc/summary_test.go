@@ -123,16 +123,16 @@ func ExampleQuantile() {
 func TestSummarizeIndependentDraws(t *testing.T) {
 	r := rand.New(rand.NewPCG(3, 4))
 	const rows, walkers = 2000, 20
-	c := &Chain{Names: []string{"z"}}
+	c := NewChain([]string{"z"}, walkers)
 	for k := 0; k < rows; k++ {
-		c.Step = append(c.Step, 2*(k+1)) // a thinning of 2
 		row := make([][]float64, walkers)
 		lp := make([]float64, walkers)
 		for w := range row {
 			row[w] = []float64{r.NormFloat64()}
 		}
-		c.X = append(c.X, row)
-		c.LogDensity = append(c.LogDensity, lp)
+		if err := c.Append(2*(k+1), row, lp); err != nil { // a thinning of 2
+			t.Fatal(err)
+		}
 	}
 	s := Summarize(c, 100, []float64{0.5})[0]
 	n := float64((rows - 100) * walkers)

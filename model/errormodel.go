@@ -5,11 +5,20 @@ import (
 	"math"
 )
 
-// The error models of the kinematic residuals, as named in configuration files.
+// ErrorKind names the distribution of the kinematic residuals, as written in
+// configuration files.
+type ErrorKind string
+
+// The error models of the kinematic residuals.
 const (
-	ErrorsGaussian = "gaussian"
-	ErrorsTolerant = "tolerant"
-	ErrorsStudent  = "student"
+	// ErrorsGaussian is N(r; 0, σ).
+	ErrorsGaussian ErrorKind = "gaussian"
+	// ErrorsTolerant is the conservative formulation of Sivia & Skilling (2006, Data
+	// Analysis: A Bayesian Tutorial, §8.3), which lets a few wild residuals pass without
+	// dragging the fit.
+	ErrorsTolerant ErrorKind = "tolerant"
+	// ErrorsStudent is Student's t with a given number of degrees of freedom ν.
+	ErrorsStudent ErrorKind = "student"
 )
 
 var halfLog2Pi = 0.5 * math.Log(2*math.Pi)
@@ -17,7 +26,7 @@ var halfLog2Pi = 0.5 * math.Log(2*math.Pi)
 // ErrorModel is the probability density of a residual r = observed − predicted with
 // effective uncertainty σ. Build it with NewErrorModel.
 type ErrorModel struct {
-	kind string
+	kind ErrorKind
 	dof  float64
 	// Student-t constants: ln Γ((ν+1)/2) − ln Γ(ν/2) − ½ ln(νπ) and (ν+1)/2.
 	tNorm, tPow float64
@@ -25,7 +34,7 @@ type ErrorModel struct {
 
 // NewErrorModel returns the error model of the given kind: "gaussian", "tolerant" or
 // "student" (with dof degrees of freedom, ν > 0; ignored otherwise).
-func NewErrorModel(kind string, dof float64) (ErrorModel, error) {
+func NewErrorModel(kind ErrorKind, dof float64) (ErrorModel, error) {
 	e := ErrorModel{kind: kind}
 	switch kind {
 	case ErrorsGaussian, ErrorsTolerant:
@@ -45,7 +54,7 @@ func NewErrorModel(kind string, dof float64) (ErrorModel, error) {
 }
 
 // Kind returns the model's name.
-func (e ErrorModel) Kind() string { return e.kind }
+func (e ErrorModel) Kind() ErrorKind { return e.kind }
 
 // DOF returns ν of the Student-t model (0 for the others).
 func (e ErrorModel) DOF() float64 { return e.dof }

@@ -35,32 +35,42 @@ type Motion struct {
 // Sun's peculiar motion sun and the sources' mean peculiar motion src (km/s). A curve that
 // reports a ReferenceRadius (LinearCurve, PowerCurve) must have been built with the same r0.
 func NewMotion(r0 float64, curve RotationCurve, sun, src UVW) (*Motion, error) {
+	m := new(Motion)
+	if err := m.set(r0, curve, sun, src); err != nil {
+		return nil, err
+	}
+	return m, nil
+}
+
+// set makes m the Motion NewMotion describes, in place; it allocates only for an error.
+func (m *Motion) set(r0 float64, curve RotationCurve, sun, src UVW) error {
 	if !(r0 > 0) || !isFiniteNumber(r0) {
-		return nil, fmt.Errorf("motion model: R0 = %v kpc must be positive", r0)
+		return fmt.Errorf("motion model: R0 = %v kpc must be positive", r0)
 	}
 	if curve == nil {
-		return nil, fmt.Errorf("motion model: no rotation curve")
+		return fmt.Errorf("motion model: no rotation curve")
 	}
 	if rc, ok := curve.(interface{ ReferenceRadius() float64 }); ok && rc.ReferenceRadius() != r0 {
-		return nil, fmt.Errorf("motion model: rotation curve built for R0 = %v kpc, model has R0 = %v kpc", rc.ReferenceRadius(), r0)
+		return fmt.Errorf("motion model: rotation curve built for R0 = %v kpc, model has R0 = %v kpc", rc.ReferenceRadius(), r0)
 	}
-	for _, v := range []float64{sun.U, sun.V, sun.W, src.U, src.V, src.W} {
+	for _, v := range [...]float64{sun.U, sun.V, sun.W, src.U, src.V, src.W} {
 		if !isFiniteNumber(v) {
-			return nil, fmt.Errorf("motion model: peculiar motions Sun %+v, sources %+v must be finite", sun, src)
+			return fmt.Errorf("motion model: peculiar motions Sun %+v, sources %+v must be finite", sun, src)
 		}
 	}
 	th0 := curve.Theta(r0)
 	if !isFiniteNumber(th0) {
-		return nil, fmt.Errorf("motion model: Theta(R0) = %v", th0)
+		return fmt.Errorf("motion model: Theta(R0) = %v", th0)
 	}
-	return &Motion{
+	*m = Motion{
 		r0:     r0,
 		curve:  curve,
 		theta0: th0,
 		sun:    sun,
 		src:    src,
 		vSun:   [3]float64{sun.U, th0 + sun.V, sun.W},
-	}, nil
+	}
+	return nil
 }
 
 // R0 returns the Sun–centre distance (kpc).

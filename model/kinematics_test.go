@@ -1,6 +1,7 @@
 package model
 
 import (
+	"github.com/mirabilis-astro/mirabilis/model/param"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -22,7 +23,7 @@ func motionFromRow(t testing.TB, r framesRow, nodeRadii []float64) *Motion {
 		vals["Theta0"], vals["alpha"] = r.get(t, "Theta0"), r.get(t, "alpha")
 	case "nodes":
 		for j, v := range r.nodeSpeeds {
-			vals[NodeParamName(j+1)] = v
+			vals[param.NodeName(j+1)] = v
 		}
 		cs.NodeRadii = nodeRadii
 	default:

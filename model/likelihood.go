@@ -3,10 +3,11 @@ package model
 import (
 	"fmt"
 	"math"
-	"runtime"
 	"strings"
 	"sync"
 
+	"github.com/mirabilis-astro/mirabilis/internal/spelling"
+	"github.com/mirabilis-astro/mirabilis/internal/workpool"
 	"github.com/mirabilis-astro/mirabilis/model/catalog"
 	"github.com/mirabilis-astro/mirabilis/model/quad"
 )
@@ -33,13 +34,25 @@ type Source struct {
 	Label int
 }
 
-// NewSources prepares the sources of a catalog for the likelihood of spec. A source whose
-// arm label names no arm of the model is an error naming the catalog line.
+// NewSources prepares the sources of a catalog for the likelihood of spec. Arm labels are
+// matched to the model's arm names without regard to case, as column names are (an exact
+// match wins where arms' names differ only in case). A source whose arm label names no arm
+// of the model is an error naming the catalog line and the nearest arm name.
 func NewSources(cat *catalog.Catalog, spec *Spec) ([]Source, error) {
 	index := map[string]int{}
+	folded := map[string]int{} // lower-case name → arm, -1 where two arms share it
+	var names []string
 	for k, a := range spec.Arms {
 		index[a.Name] = k + 1
+		names = append(names, a.Name)
+		f := strings.ToLower(a.Name)
+		if _, dup := folded[f]; dup {
+			folded[f] = -1
+		} else {
+			folded[f] = k + 1
+		}
 	}
+
 	out := make([]Source, len(cat.Sources))
 	var bad []string
 	for i, cs := range cat.Sources {
@@ -57,7 +70,15 @@ func NewSources(cat *catalog.Catalog, spec *Spec) ([]Source, error) {
 		if cs.Arm != "" && cs.Arm != "?" {
 			k, ok := index[cs.Arm]
 			if !ok {
-				bad = append(bad, fmt.Sprintf("%s:%d: source %s: arm %q is not an arm of the model", cat.Path, cs.Line, cs.Name, cs.Arm))
+				k = folded[strings.ToLower(cs.Arm)]
+				ok = k > 0
+			}
+			if !ok {
+				hint := ""
+				if s := spelling.Nearest(cs.Arm, names); s != "" {
+					hint = fmt.Sprintf(" (did you mean %s?)", s)
+				}
+				bad = append(bad, fmt.Sprintf("%s:%d: source %s: arm %q is not an arm of the model%s", cat.Path, cs.Line, cs.Name, cs.Arm, hint))
 			}
 			s.Label = k
 		}
@@ -207,17 +228,30 @@ func (s *Source) LogIntegrand(spec *Spec, p *Params, u float64, comp []float64) 
 
 // grid is a source's fixed quadrature: its layout, the distances of its nodes and the terms
 // of the log-integrand there that do not depend on the parameters.
+//
+// The fast path reads the rest, one contiguous array per quantity: the quadrature weights
+// w, the node's place in the plane relative to the Sun (px, py) = d cos b (cos l, sin l)
+// (kpc), and 1/(k d) (mas/yr per km/s).
 type grid struct {
 	layout *quad.Layout
 	d      []float64
 	base   []float64
+
+	w, px, py, invKD []float64
 }
 
 func newGrid(spec *Spec, s *Source, l *quad.Layout) *grid {
-	g := &grid{layout: l, d: l.Nodes(), base: make([]float64, l.Len())}
+	n := l.Len()
+	flat := make([]float64, 4*n)
+	g := &grid{layout: l, d: l.Nodes(), base: flat[:n:n], w: l.Weights(),
+		px: flat[n : 2*n : 2*n], py: flat[2*n : 3*n : 3*n], invKD: flat[3*n : 4*n : 4*n]}
 	for j, u := range g.d {
-		g.d[j] = math.Exp(u)
-		g.base[j] = s.logBase(spec, g.d[j])
+		d := math.Exp(u)
+		g.d[j] = d
+		g.base[j] = s.logBase(spec, d)
+		dc := d * s.Sight.CosB
+		g.px[j], g.py[j] = dc*s.Sight.CosL, dc*s.Sight.SinL
+		g.invKD[j] = 1 / (KmsPerKpcMasYr * d)
 	}
 	return g
 }
@@ -456,53 +490,12 @@ func (L *Likelihood) InnerProbability(i int, p *Params, rInner float64) float64 
 	return in
 }
 
-// MassQuantile returns the distance below which the fraction q of the node masses lies,
-// interpolating linearly in ln d between nodes.
-func MassQuantile(d, mass []float64, q float64) float64 {
-	var cum float64
-	for j, m := range mass {
-		next := cum + m
-		if next >= q && m > 0 {
-			if j == 0 {
-				return d[0]
-			}
-			a := (q - cum) / m
-			return math.Exp((1-a)*math.Log(d[j-1]) + a*math.Log(d[j]))
-		}
-		cum = next
-	}
-	return d[len(d)-1]
-}
-
-// Parallel runs f(i) for i in [0, n) on workers goroutines (GOMAXPROCS when ≤ 0). Results
-// must be written to per-index slots, so that the outcome does not depend on the count.
+// Parallel runs f(i) for i in [0, n) on up to workers goroutines (GOMAXPROCS when ≤ 0)
+// of the process's one worker pool (package internal/workpool), the caller among them.
+// Results must be written to per-index slots, so that the outcome does not depend on the
+// count.
 func Parallel(n, workers int, f func(i int)) {
-	if workers <= 0 {
-		workers = runtime.GOMAXPROCS(0)
-	}
-	workers = min(workers, n)
-	if workers <= 1 {
-		for i := range n {
-			f(i)
-		}
-		return
-	}
-	var wg sync.WaitGroup
-	next := make(chan int)
-	for range workers {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for i := range next {
-				f(i)
-			}
-		}()
-	}
-	for i := range n {
-		next <- i
-	}
-	close(next)
-	wg.Wait()
+	workpool.Run(workers, n, func(_, i int) { f(i) })
 }
 
 // PeculiarMotion returns the source's peculiar motion (U, V, W) relative to circular

@@ -10,7 +10,7 @@ import (
 
 // testSpec is a two-arm galaxy of the project's own invention, with every setting of
 // MODEL.md at its default.
-func testSpec(t testing.TB, errors string) *Spec {
+func testSpec(t testing.TB, errors ErrorKind) *Spec {
 	em, err := NewErrorModel(errors, 4)
 	if err != nil {
 		t.Fatal(err)
@@ -110,7 +110,7 @@ func TestTolerantDensity(t *testing.T) {
 
 // TestStudentAndGaussianNormalised checks the other two error models integrate to one.
 func TestStudentAndGaussianNormalised(t *testing.T) {
-	for _, kind := range []string{ErrorsGaussian, ErrorsStudent} {
+	for _, kind := range []ErrorKind{ErrorsGaussian, ErrorsStudent} {
 		em, _ := NewErrorModel(kind, 4)
 		f := func(r float64) float64 { return math.Exp(em.LogDensity(r, 4)) }
 		// Student-t with ν = 4 and scale 2: tails ∝ r⁻⁵; integrate far enough.

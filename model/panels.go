@@ -24,6 +24,10 @@ type LayoutStats struct {
 	TotalNodes int
 	// Unconverged lists the sources whose refinement stopped before meeting the tolerance.
 	Unconverged []string
+	// Fallback lists the sources whose refinement ran out of bisections before resolving
+	// every peak, and which use the fallback layout (see quad.Stats.Fallback); those of
+	// them that still missed the tolerance are in Unconverged too.
+	Fallback []string
 	// MaxError is the largest estimated error of ln L_i at any pilot.
 	MaxError float64
 }
@@ -67,6 +71,9 @@ func (L *Likelihood) summarise(stats []quad.Stats) LayoutStats {
 			if !stats[i].Converged {
 				ls.Unconverged = append(ls.Unconverged, L.Sources[i].Name)
 			}
+			if stats[i].Fallback {
+				ls.Fallback = append(ls.Fallback, L.Sources[i].Name)
+			}
 			for _, e := range stats[i].Error {
 				ls.MaxError = max(ls.MaxError, e)
 			}
@@ -99,6 +106,14 @@ func (L *Likelihood) layoutSource(i int, pilots []*Params) (*quad.Layout, quad.S
 	breaks := L.features(s, pilots, fs, lo, hi)
 	set := quad.Settings{Tol: L.Spec.Tol}
 	return quad.Build(lo, hi, breaks, fs, &set)
+}
+
+// sourceFeatures returns the breakpoints of source i at the parameter sets ps, whose
+// log-integrands are fs, over the source's distance range.
+func (L *Likelihood) sourceFeatures(i int, ps []*Params, fs []func(float64) float64) []float64 {
+	s := &L.Sources[i]
+	dlo, dhi, _ := s.DistanceRange(L.Spec)
+	return L.features(s, ps, fs, math.Log(dlo), math.Log(dhi))
 }
 
 // features returns candidate breakpoints in u for source s: where the integrand may change
@@ -212,7 +227,31 @@ func (L *Likelihood) features(s *Source, pilots []*Params, fs []func(float64) fl
 		}
 	}
 	slices.Sort(br)
-	return slices.Compact(br)
+	return thin(br, lo, breakGap)
+}
+
+// breakGap is the least distance in u = ln d between two breakpoints of a source. Every
+// pilot puts its own breakpoints at each feature (an arm crossing and its flanks, a
+// kinematic match, a scanned maximum), a little apart from the other pilots'; kept all,
+// they cut the range into hundreds of slivers, which cost evaluations while the panels are
+// built and, beyond the refinement's budget, left layouts unconverged and unmerged at
+// thousands of nodes. A panel edge within 0.01 of a feature serves as well as one on it:
+// the Kronrod nodes crowd towards the edges, and refinement splits wherever the error
+// estimate asks.
+const breakGap = 0.01
+
+// thin keeps the first of each run of sorted breakpoints closer than gap to the one kept
+// before it (or to lo).
+func thin(br []float64, lo, gap float64) []float64 {
+	out := br[:0]
+	last := lo
+	for _, x := range br {
+		if x-last >= gap && (len(out) == 0 || x > out[len(out)-1]) {
+			out = append(out, x)
+			last = x
+		}
+	}
+	return out
 }
 
 // residuals returns the observed-minus-predicted line-of-sight velocity and proper motions
@@ -240,8 +279,36 @@ func (s *Source) residuals(p *Params, d float64) [3]float64 {
 	return r
 }
 
-// Monitor re-estimates the quadrature error of ln L_i at parameter set p for the sources
-// listed (all when nil) and returns those above the tolerance with their estimates.
+// QuadratureErrors measures the quadrature error of ln L_i at parameter set p for the
+// sources listed (all when nil): for each, ln L_i on its fixed quadrature minus ln L_i on
+// that quadrature refined at p to a tenth of the tolerance (quad.Check), in the order
+// listed. A positive value means the fixed quadrature overstates L_i. Unlike the
+// quadrature's own Gauss–Kronrod estimate, which overstates the error of merged panels by
+// orders of magnitude, this is the error itself, to within a tenth of the tolerance.
+func (L *Likelihood) QuadratureErrors(p *Params, sources []int) ([]float64, error) {
+	if sources == nil {
+		sources = make([]int, len(L.Sources))
+		for i := range sources {
+			sources[i] = i
+		}
+	}
+	set := quad.Settings{Tol: L.Spec.Tol}
+	out := make([]float64, len(sources))
+	at := []*Params{p}
+	for k, i := range sources {
+		fs := L.pilotFuncs(i, at)
+		d, _, err := quad.Check(L.grids[i].layout, L.sourceFeatures(i, at, fs), fs[0], &set)
+		if err != nil {
+			return nil, fmt.Errorf("source %s: %w", L.Sources[i].Name, err)
+		}
+		out[k] = d
+	}
+	return out, nil
+}
+
+// Monitor measures the quadrature error of ln L_i at parameter set p for the sources
+// listed (all when nil), as QuadratureErrors does, and returns those whose error exceeds
+// the tolerance, with the size of their error (+Inf where it could not be measured).
 func (L *Likelihood) Monitor(p *Params, sources []int) map[int]float64 {
 	if sources == nil {
 		sources = make([]int, len(L.Sources))
@@ -251,7 +318,12 @@ func (L *Likelihood) Monitor(p *Params, sources []int) map[int]float64 {
 	}
 	out := map[int]float64{}
 	for _, i := range sources {
-		if e := L.ErrorEstimate(i, p); !(e <= L.Spec.Tol) {
+		d, err := L.QuadratureErrors(p, []int{i})
+		e := math.Inf(1)
+		if err == nil {
+			e = math.Abs(d[0])
+		}
+		if !(e <= L.Spec.Tol) {
 			out[i] = e
 		}
 	}
@@ -259,10 +331,12 @@ func (L *Likelihood) Monitor(p *Params, sources []int) map[int]float64 {
 }
 
 // Refine refines the quadrature of source i so that it meets the tolerance at the given
-// parameter sets too, keeping its other panels.
+// parameter sets too: its panels are cut at the features found there and bisected as the
+// error estimate asks (quad.Refine); the others are kept.
 func (L *Likelihood) Refine(i int, at []*Params) error {
 	set := quad.Settings{Tol: L.Spec.Tol}
-	l, _, err := quad.Refine(L.grids[i].layout, L.pilotFuncs(i, at), &set)
+	fs := L.pilotFuncs(i, at)
+	l, _, err := quad.Refine(L.grids[i].layout, L.sourceFeatures(i, at, fs), fs, &set)
 	if err != nil {
 		return fmt.Errorf("source %s: %w", L.Sources[i].Name, err)
 	}

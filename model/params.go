@@ -5,10 +5,10 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
-	"github.com/mirabilis-astro/mirabilis/model/config"
 	"io"
 	"os"
-	"strings"
+
+	"github.com/mirabilis-astro/mirabilis/model/param"
 )
 
 // CurveSettings holds what a parameter set does not: the rotation curve's family, the node
@@ -26,25 +26,6 @@ type CurveSettings struct {
 	// RCore is the core radius R_core (kpc); 0 means DefaultCoreRadius.
 	RCore float64
 }
-
-// Parameter names of the kinematic model, as used in parameter files, chain columns and
-// summaries; package config holds the full list.
-const (
-	ParamR0     = config.NameR0       // kpc
-	ParamTheta0 = config.NameTheta0   // km/s
-	ParamSlope  = config.NameDThetaDR // km/s/kpc, linear curve
-	ParamAlpha  = config.NameAlpha    // power curve exponent
-	ParamUsun   = config.NameUsun     // km/s
-	ParamVsun   = config.NameVsun     // km/s
-	ParamWsun   = config.NameWsun     // km/s
-	ParamUs     = config.NameUs       // km/s
-	ParamVs     = config.NameVs       // km/s
-	ParamWs     = config.NameWs       // km/s
-)
-
-// NodeParamName returns the parameter name of the speed at the j-th node (1-based),
-// "Theta_j".
-func NodeParamName(j int) string { return config.NodeName(j) }
 
 // MotionFromParams builds the Motion described by a flat set of parameter values keyed by
 // name (R0, Theta0, dTheta_dR or alpha or Theta_1…Theta_N, Usun, Vsun, Wsun, Us, Vs, Ws) and
@@ -76,19 +57,19 @@ func MotionFromParams(values map[string]float64, cs CurveSettings) (*Motion, []s
 	if rCore == 0 {
 		rCore = DefaultCoreRadius
 	}
-	r0, err := get(ParamR0)
+	r0, err := get(param.R0)
 	if err != nil {
 		return nil, nil, err
 	}
 	var curve RotationCurve
 	switch fam {
 	case CurveLinear, CurvePower:
-		th0, err := get(ParamTheta0)
+		th0, err := get(param.Theta0)
 		if err != nil {
 			return nil, nil, err
 		}
 		if fam == CurveLinear {
-			slope, err := get(ParamSlope)
+			slope, err := get(param.DThetaDR)
 			if err != nil {
 				return nil, nil, err
 			}
@@ -97,7 +78,7 @@ func MotionFromParams(values map[string]float64, cs CurveSettings) (*Motion, []s
 				return nil, nil, err
 			}
 		} else {
-			alpha, err := get(ParamAlpha)
+			alpha, err := get(param.Alpha)
 			if err != nil {
 				return nil, nil, err
 			}
@@ -112,7 +93,7 @@ func MotionFromParams(values map[string]float64, cs CurveSettings) (*Motion, []s
 		}
 		speeds := make([]float64, len(cs.NodeRadii))
 		for j := range speeds {
-			if speeds[j], err = get(NodeParamName(j + 1)); err != nil {
+			if speeds[j], err = get(param.NodeName(j + 1)); err != nil {
 				return nil, nil, err
 			}
 		}
@@ -122,7 +103,7 @@ func MotionFromParams(values map[string]float64, cs CurveSettings) (*Motion, []s
 		}
 	}
 	var uvw [6]float64
-	for i, name := range []string{ParamUsun, ParamVsun, ParamWsun, ParamUs, ParamVs, ParamWs} {
+	for i, name := range []string{param.Usun, param.Vsun, param.Wsun, param.Us, param.Vs, param.Ws} {
 		if uvw[i], err = get(name); err != nil {
 			return nil, nil, err
 		}
@@ -156,18 +137,18 @@ func curveFamilyOf(values map[string]float64, cs CurveSettings) (CurveFamily, er
 		return "", fmt.Errorf("unknown rotation-curve family %q (want %q, %q or %q)", cs.Family, CurveLinear, CurvePower, CurveNodes)
 	}
 	var found []CurveFamily
-	if _, ok := values[ParamSlope]; ok {
+	if _, ok := values[param.DThetaDR]; ok {
 		found = append(found, CurveLinear)
 	}
-	if _, ok := values[ParamAlpha]; ok {
+	if _, ok := values[param.Alpha]; ok {
 		found = append(found, CurvePower)
 	}
-	if _, ok := values[NodeParamName(1)]; ok {
+	if _, ok := values[param.NodeName(1)]; ok {
 		found = append(found, CurveNodes)
 	}
 	switch len(found) {
 	case 0:
-		return "", fmt.Errorf("no rotation-curve parameter: want %s (linear), %s (power) or %s… (nodes)", ParamSlope, ParamAlpha, NodeParamName(1))
+		return "", fmt.Errorf("no rotation-curve parameter: want %s (linear), %s (power) or %s… (nodes)", param.DThetaDR, param.Alpha, param.NodeName(1))
 	case 1:
 		return found[0], nil
 	}
@@ -178,14 +159,14 @@ func curveFamilyOf(values map[string]float64, cs CurveSettings) (CurveFamily, er
 // of the model and not to a rotation-curve family other than fam.
 func checkUnusedParam(name string, fam CurveFamily, nNodes int) error {
 	switch {
-	case name == ParamSlope || name == ParamAlpha:
+	case name == param.DThetaDR || name == param.Alpha:
 		return fmt.Errorf("parameter %s does not belong to the %s rotation curve", name, fam)
-	case config.IsNodeName(name):
+	case param.IsNodeName(name):
 		if fam != CurveNodes {
 			return fmt.Errorf("parameter %s does not belong to the %s rotation curve", name, fam)
 		}
 		return fmt.Errorf("parameter %s: the nodes curve has only %d node radii", name, nNodes)
-	case name == ParamTheta0 && fam == CurveNodes:
+	case name == param.Theta0 && fam == CurveNodes:
 		return nil // derived for a nodes curve
 	case IsModelParameterName(name):
 		return nil
@@ -193,30 +174,45 @@ func checkUnusedParam(name string, fam CurveFamily, nNodes int) error {
 	return fmt.Errorf("unknown parameter %q", name)
 }
 
-// IsModelParameterName reports whether name is a parameter or derived-quantity name of the
-// model: the kinematic names (R0, Theta0, dTheta_dR, alpha, Theta_j, Usun, Vsun, Wsun, Us,
-// Vs, Ws), sigma_vir, width_slope, f_field, the derived Omega_sun, Theta0_over_R0,
-// Theta0_plus_Vsun, Oort_A, Oort_B, and for an arm NAME: NAME_Rref, NAME_pitch, NAME_pitch2,
-// NAME_kink, NAME_width, NAME_Rsun and f_NAME.
-func IsModelParameterName(name string) bool {
-	switch name {
-	case ParamR0, ParamTheta0, ParamSlope, ParamAlpha, ParamUsun, ParamVsun, ParamWsun,
-		ParamUs, ParamVs, ParamWs, "sigma_vir", "width_slope", "f_field",
-		"Omega_sun", "Theta0_over_R0", "Theta0_plus_Vsun", "Oort_A", "Oort_B":
-		return true
-	}
-	if config.IsNodeName(name) {
-		return true
-	}
-	if arm, ok := strings.CutPrefix(name, "f_"); ok && arm != "" {
-		return true
-	}
-	for _, suffix := range []string{"_Rref", "_pitch", "_pitch2", "_kink", "_width", "_Rsun"} {
-		if arm, ok := strings.CutSuffix(name, suffix); ok && arm != "" {
-			return true
+// IsModelParameterName reports whether name has the form of a parameter or derived-quantity
+// name of some model (see param.CouldBe): a global or derived name, a node speed Theta_j,
+// NAME_suffix of an arm's parameter or f_NAME of a fraction.
+func IsModelParameterName(name string) bool { return param.CouldBe(name) }
+
+// GlobalNames returns the names of the global parameters of a model whose rotation curve is
+// of family fam with nodes node radii, in the order of the parameter table (param.Table): R0,
+// the curve's parameters (Theta0 and dTheta_dR, Theta0 and alpha, or Theta_1 … Theta_nodes),
+// Usun, Vsun, Wsun, Us, Vs, Ws, sigma_vir, width_slope.
+func GlobalNames(fam CurveFamily, nodes int) []string {
+	var names []string
+	for _, e := range param.Table() {
+		if e.Kind != param.Global {
+			continue
+		}
+		switch e.Name {
+		case param.NodePattern:
+			if fam == CurveNodes {
+				for j := 1; j <= nodes; j++ {
+					names = append(names, param.NodeName(j))
+				}
+			}
+		case param.Theta0:
+			if fam == CurveLinear || fam == CurvePower {
+				names = append(names, e.Name)
+			}
+		case param.DThetaDR:
+			if fam == CurveLinear {
+				names = append(names, e.Name)
+			}
+		case param.Alpha:
+			if fam == CurvePower {
+				names = append(names, e.Name)
+			}
+		default:
+			names = append(names, e.Name)
 		}
 	}
-	return false
+	return names
 }
 
 // ReadParamValues reads a JSON file holding one object of parameter values keyed by name,

@@ -3,10 +3,11 @@ package model
 import (
 	"fmt"
 	"math"
-	"strconv"
+	"slices"
+	"sync"
 
 	"github.com/mirabilis-astro/mirabilis/arms"
-	"github.com/mirabilis-astro/mirabilis/model/config"
+	"github.com/mirabilis-astro/mirabilis/model/param"
 	"github.com/mirabilis-astro/mirabilis/model/prior"
 )
 
@@ -21,20 +22,61 @@ type Posterior struct {
 	priors  []prior.Prior // aligned with names
 	free    []int         // indices into names of the sampled parameters
 	fracs   prior.Dirichlet
-	derived []config.Param
+	derived []NamedPrior
+
+	ix     *indexed  // names resolved to slots, for LogDensity
+	states sync.Pool // *state
 }
 
-// NewPosterior returns the posterior of configuration c over the likelihood L.
-func NewPosterior(c *config.Config, L *Likelihood) (*Posterior, error) {
-	p := &Posterior{Spec: L.Spec, Like: L, names: c.ParamNames(), priors: c.Priors(), derived: c.DerivedPriors}
-	for i, pr := range p.priors {
-		if !pr.IsFixed() {
+// NamedPrior is the prior of one parameter or derived quantity, by name.
+type NamedPrior struct {
+	Name  string
+	Prior prior.Prior
+}
+
+// Priors are the priors of a posterior.
+type Priors struct {
+	// Params are every parameter (fixed and free) with its prior, in the order of the
+	// sampled coordinates; the membership fractions are not among them.
+	Params []NamedPrior
+	// Derived are priors on derived quantities (see Derived), if any.
+	Derived []NamedPrior
+	// Fractions is the Dirichlet prior of the membership fractions, field first; it is used
+	// in the galaxy mode only.
+	Fractions prior.Dirichlet
+}
+
+// NewPosterior returns the posterior with priors pr over the likelihood L.
+func NewPosterior(pr Priors, L *Likelihood) (*Posterior, error) {
+	p := &Posterior{Spec: L.Spec, Like: L, derived: append([]NamedPrior(nil), pr.Derived...)}
+	known := DerivedNames(L.Spec)
+	for _, d := range p.derived {
+		if d.Prior == nil || !slices.Contains(known, d.Name) {
+			return nil, fmt.Errorf("model: prior on %q: not a derived quantity of the model", d.Name)
+		}
+	}
+	for i, np := range pr.Params {
+		if np.Prior == nil {
+			return nil, fmt.Errorf("model: parameter %s has no prior", np.Name)
+		}
+		p.names = append(p.names, np.Name)
+		p.priors = append(p.priors, np.Prior)
+		if !np.Prior.IsFixed() {
 			p.free = append(p.free, i)
 		}
 	}
 	if L.Spec.Galaxy {
-		p.fracs = c.Fractions()
+		if pr.Fractions.N != L.Spec.NumComponents() {
+			return nil, fmt.Errorf("model: Dirichlet prior over %d fractions for %d components", pr.Fractions.N, L.Spec.NumComponents())
+		}
+		p.fracs = pr.Fractions
 	}
+	ix, err := newIndexed(p)
+	if err != nil {
+		return nil, err
+	}
+	p.ix = ix
+	p.states.New = func() any { return &state{post: p} }
 	return p, nil
 }
 
@@ -56,7 +98,7 @@ func (p *Posterior) Names() []string {
 		out = append(out, p.names[i])
 	}
 	for k := 1; k <= p.fracReals(); k++ {
-		out = append(out, "stick_"+strconv.Itoa(k))
+		out = append(out, param.StickName(k))
 	}
 	return out
 }
@@ -170,7 +212,11 @@ func (p *Posterior) logPrior(x []float64) (float64, *Params) {
 
 // LogDensity returns the log posterior density at x, up to a constant: LogPrior plus the
 // total log-likelihood. It is −Inf outside the prior's support and safe for concurrent use.
-func (p *Posterior) LogDensity(x []float64) float64 {
+func (p *Posterior) LogDensity(x []float64) float64 { return p.logDensityIndexed(x, 1) }
+
+// logDensityReference is LogDensity computed the straightforward way (Values, NewParams,
+// LogL), the reference the indexed path is tested against.
+func (p *Posterior) logDensityReference(x []float64) float64 {
 	lp, params := p.logPrior(x)
 	if math.IsInf(lp, -1) {
 		return lp
@@ -181,28 +227,26 @@ func (p *Posterior) LogDensity(x []float64) float64 {
 // LogDensityParallel is LogDensity with the likelihood's sources shared among workers
 // goroutines; it returns the same value.
 func (p *Posterior) LogDensityParallel(x []float64, workers int) float64 {
-	lp, params := p.logPrior(x)
-	if math.IsInf(lp, -1) {
-		return lp
-	}
-	return lp + p.Like.LogLParallel(params, workers)
+	return p.logDensityIndexed(x, workers)
 }
 
-// Derived returns the derived quantities of a parameter set (MODEL §6): Omega_sun
-// (Θ0 + V⊙)/R0, Theta0_over_R0, Theta0_plus_Vsun, Oort_A and Oort_B at R0 (km/s/kpc or
-// km/s), Theta0 (useful for the nodes curve, where it is derived) and NAME_Rsun, the radius
-// (kpc) where arm NAME crosses the Sun–centre line nearest the Sun (NaN if its azimuth range
-// never reaches that line).
+// Derived returns the derived quantities of a parameter set (MODEL §6), keyed by the names
+// DerivedNames gives: Omega_sun (Θ0 + V⊙)/R0, Theta0_over_R0, Theta0_plus_Vsun, Oort_A and
+// Oort_B at R0 (km/s/kpc or km/s), Theta0 for the nodes curve (where it is derived, not a
+// parameter) and NAME_Rsun, the radius (kpc) where arm NAME crosses the Sun–centre line
+// nearest the Sun (NaN if its azimuth range never reaches that line).
 func Derived(p *Params, spec *Spec) map[string]float64 {
 	m := p.Motion
 	A, B := m.Oort()
 	out := map[string]float64{
-		config.NameOmegaSun:      m.OmegaSun(),
-		config.NameThetaOverR0:   m.Theta0() / m.R0(),
-		config.NameThetaPlusVsun: m.Theta0() + m.Sun().V,
-		config.NameOortA:         A,
-		config.NameOortB:         B,
-		config.NameTheta0:        m.Theta0(),
+		param.OmegaSun:      m.OmegaSun(),
+		param.ThetaOverR0:   m.Theta0() / m.R0(),
+		param.ThetaPlusVsun: m.Theta0() + m.Sun().V,
+		param.OortA:         A,
+		param.OortB:         B,
+	}
+	if spec.thetaDerived() {
+		out[param.Theta0] = m.Theta0()
 	}
 	var cross []arms.Crossing
 	for _, a := range p.Layout.Arms {
@@ -211,16 +255,12 @@ func Derived(p *Params, spec *Spec) map[string]float64 {
 		if len(cross) > 0 {
 			v = cross[0].R
 		}
-		out[a.Name+config.SuffixRsun] = v
+		out[a.Name+param.SuffixRsun] = v
 	}
 	return out
 }
 
-// DerivedNames lists the names Derived returns, in a fixed order.
+// DerivedNames lists the names Derived returns, in the order of the parameter table.
 func DerivedNames(spec *Spec) []string {
-	names := []string{config.NameOmegaSun, config.NameThetaOverR0, config.NameThetaPlusVsun, config.NameOortA, config.NameOortB, config.NameTheta0}
-	for _, a := range spec.Arms {
-		names = append(names, a.Name+config.SuffixRsun)
-	}
-	return names
+	return param.DerivedNames(spec.thetaDerived(), spec.ArmNames())
 }

@@ -21,15 +21,20 @@ const DefaultCoreRadius = 2.0
 // CurveFamily names a family of rotation curves, as written in configuration files.
 type CurveFamily string
 
-// The rotation-curve families.
+// The rotation-curve families. Each rises as a solid body inside the core radius.
 const (
-	CurveLinear CurveFamily = "linear" // Θ0 + (dΘ/dR)(R − R0)
-	CurvePower  CurveFamily = "power"  // Θ0 (R/R0)^α
-	CurveNodes  CurveFamily = "nodes"  // speeds at fixed radii, interpolated
+	// CurveLinear is Θ(R) = Θ0 + (dΘ/dR)(R − R0).
+	CurveLinear CurveFamily = "linear"
+	// CurvePower is Θ(R) = Θ0 (R/R0)^α.
+	CurvePower CurveFamily = "power"
+	// CurveNodes has free speeds Θ_j at chosen radii, interpolated between them and flat
+	// beyond both ends; Θ0 = Θ(R0) is then derived.
+	CurveNodes CurveFamily = "nodes"
 )
 
-// Interpolation selects how a NodesCurve joins its nodes.
-type Interpolation int
+// Interpolation selects how a NodesCurve joins its nodes, as written in configuration
+// files. The empty value means MonotoneCubic.
+type Interpolation string
 
 // The interpolants of a NodesCurve.
 const (
@@ -39,21 +44,10 @@ const (
 	// wherever the data are (the conditions of Fritsch & Carlson 1980, SIAM J. Numer. Anal.
 	// 17, 238). The end slopes use the one-sided three-point formula, limited the same way.
 	// This is the interpolant known as PCHIP.
-	MonotoneCubic Interpolation = iota
+	MonotoneCubic Interpolation = "monotone"
 	// LinearInterp joins the nodes by straight lines.
-	LinearInterp
+	LinearInterp Interpolation = "linear"
 )
-
-// String returns "monotone-cubic" or "linear".
-func (i Interpolation) String() string {
-	switch i {
-	case MonotoneCubic:
-		return "monotone-cubic"
-	case LinearInterp:
-		return "linear"
-	}
-	return fmt.Sprintf("Interpolation(%d)", int(i))
-}
 
 // LinearCurve is Θ(R) = Θ0 + (dΘ/dR)(R − R0) for R ≥ R_core, a solid body inside.
 type LinearCurve struct {
@@ -64,15 +58,24 @@ type LinearCurve struct {
 // NewLinearCurve returns the linear rotation curve with Θ0 = theta0 (km/s) at R0 = r0 (kpc),
 // slope dΘ/dR (km/s/kpc) and core radius rCore (kpc). It needs r0 > rCore > 0.
 func NewLinearCurve(r0, theta0, slope, rCore float64) (*LinearCurve, error) {
+	c := new(LinearCurve)
+	if err := c.set(r0, theta0, slope, rCore); err != nil {
+		return nil, err
+	}
+	return c, nil
+}
+
+// set makes c the curve NewLinearCurve describes, in place.
+func (c *LinearCurve) set(r0, theta0, slope, rCore float64) error {
 	if err := checkCurveRadii(r0, rCore); err != nil {
-		return nil, fmt.Errorf("linear rotation curve: %w", err)
+		return fmt.Errorf("linear rotation curve: %w", err)
 	}
 	if !isFiniteNumber(theta0) || !isFiniteNumber(slope) {
-		return nil, fmt.Errorf("linear rotation curve: Theta0 = %v and dTheta_dR = %v must be finite", theta0, slope)
+		return fmt.Errorf("linear rotation curve: Theta0 = %v and dTheta_dR = %v must be finite", theta0, slope)
 	}
-	c := &LinearCurve{r0: r0, theta0: theta0, slope: slope, rCore: rCore}
+	*c = LinearCurve{r0: r0, theta0: theta0, slope: slope, rCore: rCore}
 	c.coreRate = (theta0 + slope*(rCore-r0)) / rCore
-	return c, nil
+	return nil
 }
 
 // Theta returns Θ(R) in km/s.
@@ -107,16 +110,25 @@ type PowerCurve struct {
 // NewPowerCurve returns the power-law rotation curve with Θ0 = theta0 (km/s) at R0 = r0
 // (kpc), exponent alpha and core radius rCore (kpc). It needs r0 > rCore > 0.
 func NewPowerCurve(r0, theta0, alpha, rCore float64) (*PowerCurve, error) {
+	c := new(PowerCurve)
+	if err := c.set(r0, theta0, alpha, rCore); err != nil {
+		return nil, err
+	}
+	return c, nil
+}
+
+// set makes c the curve NewPowerCurve describes, in place.
+func (c *PowerCurve) set(r0, theta0, alpha, rCore float64) error {
 	if err := checkCurveRadii(r0, rCore); err != nil {
-		return nil, fmt.Errorf("power rotation curve: %w", err)
+		return fmt.Errorf("power rotation curve: %w", err)
 	}
 	if !isFiniteNumber(theta0) || !isFiniteNumber(alpha) {
-		return nil, fmt.Errorf("power rotation curve: Theta0 = %v and alpha = %v must be finite", theta0, alpha)
+		return fmt.Errorf("power rotation curve: Theta0 = %v and alpha = %v must be finite", theta0, alpha)
 	}
-	c := &PowerCurve{r0: r0, theta0: theta0, alpha: alpha, rCore: rCore}
+	*c = PowerCurve{r0: r0, theta0: theta0, alpha: alpha, rCore: rCore}
 	c.scale = theta0 * math.Exp(-alpha*math.Log(r0))
 	c.coreRate = c.outer(rCore) / rCore
-	return c, nil
+	return nil
 }
 
 // outer is the curve without its core; exp and log are several times faster than math.Pow.
@@ -170,8 +182,11 @@ func NewNodesCurve(radii, speeds []float64, interp Interpolation, rCore float64)
 	if !(rCore > 0) || !isFiniteNumber(rCore) {
 		return nil, fmt.Errorf("nodes rotation curve: core radius %v kpc must be positive", rCore)
 	}
+	if interp == "" {
+		interp = MonotoneCubic
+	}
 	if interp != MonotoneCubic && interp != LinearInterp {
-		return nil, fmt.Errorf("nodes rotation curve: unknown interpolation %v", interp)
+		return nil, fmt.Errorf("nodes rotation curve: unknown interpolation %q (want %q or %q)", interp, MonotoneCubic, LinearInterp)
 	}
 	for j := 0; j < n; j++ {
 		if !isFiniteNumber(radii[j]) || radii[j] <= 0 {

@@ -165,7 +165,7 @@ func TestCurveErrors(t *testing.T) {
 			_, e := NewNodesCurve([]float64{5, 5}, []float64{1, 2}, MonotoneCubic, 2)
 			return e
 		}()},
-		{"nodes interp", func() error { _, e := NewNodesCurve([]float64{5}, []float64{1}, Interpolation(7), 2); return e }()},
+		{"nodes interp", func() error { _, e := NewNodesCurve([]float64{5}, []float64{1}, Interpolation("spline"), 2); return e }()},
 		{"nodes Inf", func() error {
 			_, e := NewNodesCurve([]float64{5, 6}, []float64{1, math.Inf(1)}, MonotoneCubic, 2)
 			return e

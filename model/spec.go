@@ -1,11 +1,12 @@
 package model
 
 import (
+	"errors"
 	"fmt"
 	"math"
 
 	"github.com/mirabilis-astro/mirabilis/arms"
-	"github.com/mirabilis-astro/mirabilis/model/config"
+	"github.com/mirabilis-astro/mirabilis/model/param"
 )
 
 const deg = math.Pi / 180
@@ -20,7 +21,7 @@ type ArmSpec struct {
 }
 
 // Spec is the fixed part of the model: everything that is a setting rather than a sampled
-// parameter. Build it with NewSpec or SpecFromConfig.
+// parameter. Package fit builds it from a configuration.
 type Spec struct {
 	// Curve holds the rotation-curve family, its node radii and the core radius.
 	Curve CurveSettings
@@ -47,48 +48,29 @@ func (s *Spec) NumComponents() int { return 1 + len(s.Arms) }
 // ComponentName returns the label of membership component m: "field" or the arm's name.
 func (s *Spec) ComponentName(m int) string {
 	if m == 0 {
-		return "field"
+		return param.FieldComponent
 	}
 	return s.Arms[m-1].Name
-}
-
-// SpecFromConfig returns the fixed part of the model a configuration describes.
-func SpecFromConfig(c *config.Config) (*Spec, error) {
-	s := &Spec{
-		Curve: CurveSettings{
-			Family:    CurveFamily(c.Rotation.Curve),
-			NodeRadii: append([]float64(nil), c.Rotation.NodeRadii...),
-			RCore:     c.Rotation.CoreRadius,
-		},
-		Bar: BarScatter{
-			Sigma:  c.Likelihood.BarDispersion,
-			Scale:  c.Likelihood.BarSoftening,
-			RInner: c.Likelihood.InnerRadius,
-		},
-		EdgeSoftening: c.Membership.ArmEndSoftening * deg,
-		DiskScale:     c.Membership.FieldScale,
-		DMin:          c.Likelihood.DistanceRange[0],
-		DMax:          c.Likelihood.DistanceRange[1],
-		Galaxy:        c.Likelihood.DistancePrior == config.DistanceGalaxy,
-		Tol:           c.Likelihood.Tolerance,
-	}
-	if c.Rotation.Interpolation == config.InterpLinear {
-		s.Curve.Interp = LinearInterp
-	}
-	em, err := NewErrorModel(string(c.Likelihood.Errors), c.Likelihood.StudentDOF)
-	if err != nil {
-		return nil, err
-	}
-	s.Errors = em
-	for _, a := range c.Arms {
-		s.Arms = append(s.Arms, NewArmSpec(a.Name, a.RefAzimuth, a.AzimuthRange[0], a.AzimuthRange[1], a.Kinked()))
-	}
-	return s, s.Validate()
 }
 
 // NewArmSpec returns the settings of an arm, with angles given in degrees.
 func NewArmSpec(name string, refDeg, startDeg, endDeg float64, kinked bool) ArmSpec {
 	return ArmSpec{Name: name, BetaRef: refDeg * deg, BetaStart: startDeg * deg, BetaEnd: endDeg * deg, Kinked: kinked}
+}
+
+// ArmNames returns the names of the arms in order.
+func (s *Spec) ArmNames() []string {
+	names := make([]string, len(s.Arms))
+	for k, a := range s.Arms {
+		names[k] = a.Name
+	}
+	return names
+}
+
+// thetaDerived reports whether Θ0 is a derived quantity rather than a parameter: for the
+// nodes curve, set or (with no family set) implied by node radii.
+func (s *Spec) thetaDerived() bool {
+	return s.Curve.Family == CurveNodes || (s.Curve.Family == "" && len(s.Curve.NodeRadii) > 0)
 }
 
 // Validate checks the settings for values the likelihood cannot work with.
@@ -148,13 +130,13 @@ func (s *Spec) NewParams(values map[string]float64) (*Params, error) {
 		return v, nil
 	}
 	p := &Params{Motion: m}
-	if p.SigmaVir, err = get(config.NameSigmaVir, 0, true); err != nil {
+	if p.SigmaVir, err = get(param.SigmaVir, 0, true); err != nil {
 		return nil, err
 	}
 	if p.SigmaVir < 0 {
-		return nil, fmt.Errorf("parameter %s = %g must not be negative", config.NameSigmaVir, p.SigmaVir)
+		return nil, fmt.Errorf("parameter %s = %g must not be negative", param.SigmaVir, p.SigmaVir)
 	}
-	slope, err := get(config.NameWidthSlope, 0, false)
+	slope, err := get(param.WidthSlope, 0, false)
 	if err != nil {
 		return nil, err
 	}
@@ -162,20 +144,20 @@ func (s *Spec) NewParams(values map[string]float64) (*Params, error) {
 	for _, a := range s.Arms {
 		arm := arms.Arm{Name: a.Name, BetaRef: a.BetaRef, BetaStart: a.BetaStart, BetaEnd: a.BetaEnd, Kinked: a.Kinked}
 		var pitch, width, pitch2, kink float64
-		if arm.RRef, err = get(a.Name+config.SuffixRref, 0, true); err != nil {
+		if arm.RRef, err = get(a.Name+param.SuffixRref, 0, true); err != nil {
 			return nil, err
 		}
-		if pitch, err = get(a.Name+config.SuffixPitch, 0, true); err != nil {
+		if pitch, err = get(a.Name+param.SuffixPitch, 0, true); err != nil {
 			return nil, err
 		}
-		if width, err = get(a.Name+config.SuffixWidth, 0, true); err != nil {
+		if width, err = get(a.Name+param.SuffixWidth, 0, true); err != nil {
 			return nil, err
 		}
 		if a.Kinked {
-			if pitch2, err = get(a.Name+config.SuffixPitch2, 0, true); err != nil {
+			if pitch2, err = get(a.Name+param.SuffixPitch2, 0, true); err != nil {
 				return nil, err
 			}
-			if kink, err = get(a.Name+config.SuffixKink, 0, true); err != nil {
+			if kink, err = get(a.Name+param.SuffixKink, 0, true); err != nil {
 				return nil, err
 			}
 		}
@@ -183,7 +165,7 @@ func (s *Spec) NewParams(values map[string]float64) (*Params, error) {
 		p.Layout.Arms = append(p.Layout.Arms, arm)
 	}
 	if p.Density, err = arms.NewDensity(p.Layout); err != nil {
-		return nil, err
+		return nil, armParamError(err)
 	}
 	n := s.NumComponents()
 	p.LogFrac = make([]float64, n)
@@ -211,8 +193,29 @@ func (s *Spec) NewParams(values map[string]float64) (*Params, error) {
 // FractionName returns the parameter name of membership component k: "f_field" or
 // "f_" + the arm's name.
 func (s *Spec) FractionName(k int) string {
-	if k == 0 {
-		return config.FieldFraction
+	return param.FractionName(s.ComponentName(k))
+}
+
+// armParamError restates an invalid arm parameter reported by package arms in the terms of
+// the parameter names and their units (deg for angles), e.g. "parameter Corvid_width = -0.1
+// kpc: must be positive". Other errors are returned as they are.
+func armParamError(err error) error {
+	var pe *arms.ParamError
+	if !errors.As(err, &pe) || pe.Arm == "" {
+		return err
 	}
-	return "f_" + s.Arms[k-1].Name
+	name := func(suffix string) string { return pe.Arm + suffix }
+	switch pe.Field {
+	case "RRef":
+		return fmt.Errorf("parameter %s = %g kpc: must be positive", name(param.SuffixRref), pe.Value)
+	case "Width":
+		return fmt.Errorf("parameter %s = %g kpc: must be positive", name(param.SuffixWidth), pe.Value)
+	case "Pitch":
+		return fmt.Errorf("parameter %s = %g deg: must lie between -90 and 90", name(param.SuffixPitch), pe.Value/deg)
+	case "Pitch2":
+		return fmt.Errorf("parameter %s = %g deg: must lie between -90 and 90", name(param.SuffixPitch2), pe.Value/deg)
+	case "BetaKink":
+		return fmt.Errorf("parameter %s = %g deg: must be a finite number", name(param.SuffixKink), pe.Value/deg)
+	}
+	return fmt.Errorf("arm %s: %s", pe.Arm, pe.Reason)
 }

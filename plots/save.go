@@ -7,7 +7,6 @@ import (
 	"fmt"
 	"image/png"
 	"io"
-	"os"
 	"path/filepath"
 	"strings"
 
@@ -15,6 +14,8 @@ import (
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
 	"gonum.org/v1/plot/vg/vgsvg"
+
+	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
 
 	// The vector formats register themselves with vg/draw.
 	_ "gonum.org/v1/plot/vg/vgeps"
@@ -70,31 +71,14 @@ func Save(f Figure, path string, width, height vg.Length) (err error) {
 	}
 	f.Draw(draw.New(cw))
 
-	tmp, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".*")
-	if err != nil {
-		return fmt.Errorf("plots: saving %s: %w", path, err)
-	}
-	defer func() {
-		if err != nil {
-			tmp.Close()
-			os.Remove(tmp.Name())
+	err = atomicfile.WriteWith(path, func(w io.Writer) error {
+		if format == "svg" {
+			return writeSVG(w, cw)
 		}
-	}()
-	if err = tmp.Chmod(0o644); err != nil {
-		return fmt.Errorf("plots: saving %s: %w", path, err)
-	}
-	if format == "svg" {
-		err = writeSVG(tmp, cw)
-	} else {
-		_, err = cw.WriteTo(tmp)
-	}
+		_, err := cw.WriteTo(w)
+		return err
+	})
 	if err != nil {
-		return fmt.Errorf("plots: writing %s: %w", path, err)
-	}
-	if err = tmp.Close(); err != nil {
-		return fmt.Errorf("plots: writing %s: %w", path, err)
-	}
-	if err = os.Rename(tmp.Name(), path); err != nil {
 		return fmt.Errorf("plots: saving %s: %w", path, err)
 	}
 	return nil

@@ -4,12 +4,11 @@ import (
 	_ "embed"
 	"flag"
 	"fmt"
-	"os"
 	"path/filepath"
-	"strconv"
 	"text/tabwriter"
 	"time"
 
+	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
 	"github.com/mirabilis-astro/mirabilis/model/config"
 	"github.com/mirabilis-astro/mirabilis/model/fit"
 	"github.com/mirabilis-astro/mirabilis/model/mock"
@@ -21,12 +20,11 @@ var demoGalaxy []byte
 //go:embed demo/demo-fit.toml
 var demoFit []byte
 
-func init() {
-	register(&command{
-		Name:  "demo",
-		Usage: "[--out DIR] [--threads N] [--steps N] [--seed N]",
-		Short: "run the whole job on the built-in demo galaxy",
-		Long: `Demo runs the whole job with no input of yours. It writes the built-in demo galaxy —
+var demoCommand = &command{
+	Name:  "demo",
+	Usage: "[--out DIR] [--threads N] [--steps N] [--seed N]",
+	Short: "run the whole job on the built-in demo galaxy",
+	Long: `Demo runs the whole job with no input of yours. It writes the built-in demo galaxy —
 an invented four-armed spiral with arms named Corvid, Lantern, Tamarisk and Halcyon —
 and a fit configuration into DIR, draws a mock catalog of 150 sources from the galaxy
 ("mirabilis simulate"), fits it ("mirabilis fit"), prints the posterior summary next
@@ -38,23 +36,32 @@ sampler settings), sources.csv and sources-truth.csv (the catalog and what the
 catalog does not say), and run/ (the run directory, see "mirabilis help fit").
 Running the demo again replaces that run. Edit demo-fit.toml and run
 "mirabilis fit DIR/demo-fit.toml --force" to try other settings.`,
-		SetFlags: func(fs *flag.FlagSet) {
-			fs.String("out", "mirabilis-demo", "`DIR` for the demo's files")
-			fs.Int("threads", 0, "`N` goroutines evaluating the likelihood (0 = all cores)")
-			fs.Int("steps", 0, "total chain length `N` (default: the demo configuration's)")
-			fs.String("seed", "", "`N`, the seed of the sampler (default: the demo configuration's)")
-		},
-		Run: runDemo,
-	})
+	Flags: func(fs *flag.FlagSet) runFunc {
+		var o demoOptions
+		fs.StringVar(&o.dir, "out", "mirabilis-demo", "`DIR` for the demo's files")
+		fs.IntVar(&o.threads, "threads", 0, "`N` goroutines evaluating the likelihood (0 = all cores)")
+		fs.IntVar(&o.steps, "steps", 0, "total chain length `N` (default: the demo configuration's)")
+		fs.Var(&o.seed, "seed", "`N`, the seed of the sampler (default: the demo configuration's)")
+		return func(env *runEnv, args []string) error { return runDemo(env, &o, args) }
+	},
 }
 
-func runDemo(env *runEnv, args []string) error {
+type demoOptions struct {
+	dir            string
+	threads, steps int
+	seed           seedValue
+}
+
+func runDemo(env *runEnv, o *demoOptions, args []string) error {
 	if len(args) > 0 {
 		return usageErrorf("unexpected argument %q", args[0])
 	}
 	began := time.Now()
-	dir := env.flags.Lookup("out").Value.String()
-	if err := os.MkdirAll(dir, 0o755); err != nil {
+	if o.threads < 0 || o.steps < 0 {
+		return usageErrorf("--threads and --steps must not be negative")
+	}
+	dir := o.dir
+	if err := atomicfile.MkdirAll(dir); err != nil {
 		return err
 	}
 	galaxyPath := filepath.Join(dir, "galaxy.toml")
@@ -63,7 +70,7 @@ func runDemo(env *runEnv, args []string) error {
 		path string
 		data []byte
 	}{{galaxyPath, demoGalaxy}, {fitPath, demoFit}} {
-		if err := fit.WriteFileAtomic(f.path, f.data); err != nil {
+		if err := atomicfile.Write(f.path, f.data); err != nil {
 			return err
 		}
 	}
@@ -81,13 +88,7 @@ func runDemo(env *runEnv, args []string) error {
 	if err != nil {
 		return err
 	}
-	seed, err := seedFlag(env)
-	if err != nil {
-		return err
-	}
-	opts := fit.Options{Force: true, Seed: seed}
-	opts.Threads, _ = strconv.Atoi(env.flags.Lookup("threads").Value.String())
-	opts.Steps, _ = strconv.Atoi(env.flags.Lookup("steps").Value.String())
+	opts := fit.Options{Force: true, Seed: o.seed.get(), Threads: o.threads, Steps: o.steps}
 	out, err := fitAndReport(env, cfg, opts)
 	if err != nil {
 		return err

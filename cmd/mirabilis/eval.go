@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"flag"
 	"fmt"
+	"math"
 	"text/tabwriter"
 
 	"github.com/mirabilis-astro/mirabilis/model"
@@ -12,12 +13,11 @@ import (
 	"github.com/mirabilis-astro/mirabilis/model/fit"
 )
 
-func init() {
-	register(&command{
-		Name:  "eval",
-		Usage: "CONFIG.toml --params PARAMS.json [--format text|json]",
-		Short: "evaluate the prior and likelihood at given parameter values",
-		Long: `Eval evaluates the model of CONFIG.toml at the parameter values in PARAMS.json
+var evalCommand = &command{
+	Name:  "eval",
+	Usage: "CONFIG.toml --params PARAMS.json [--format text|json]",
+	Short: "evaluate the prior and likelihood at given parameter values",
+	Long: `Eval evaluates the model of CONFIG.toml at the parameter values in PARAMS.json
 (see "mirabilis help params"): the log prior, the total log-likelihood, and each
 source's log-likelihood and membership probabilities. Each source's distance
 quadrature is laid out for exactly these values, to the configuration's tolerance.
@@ -26,35 +26,88 @@ Parameters the configuration fixes take their fixed values unless PARAMS.json gi
 them; every free parameter and, in the galaxy mode, every membership fraction
 (f_field, f_NAME) must be given.
 
+A parameter outside its prior gives a log prior of −Inf; eval then names each such
+parameter, its value and the range its prior allows, and still evaluates the
+likelihood.
+
 With --format json the output is an object with the keys log_prior,
-log_likelihood and sources, an array of objects with name, log_likelihood and
-membership (an object from component — "field" or an arm's name — to probability).`,
-		SetFlags: func(fs *flag.FlagSet) {
-			fs.String("params", "", "`PARAMS.json`: parameter values, a JSON object keyed by name (required)")
-			fs.String("format", "text", "output `FORMAT`: text or json")
-		},
-		Run: runEval,
-	})
+log_likelihood, outside_prior and sources. log_prior is null when a value lies
+outside its prior, and outside_prior lists each such parameter as an object with
+name, value, prior (the prior's expression) and low and high, the bounds the prior
+allows (null on an unbounded side); it is empty when every value is allowed.
+sources is an array of objects with name, log_likelihood and membership (an
+object from component — "field" or an arm's name — to probability). Any
+log-likelihood that is not a finite number is written as null.`,
+	Flags: func(fs *flag.FlagSet) runFunc {
+		var o evalOptions
+		fs.StringVar(&o.params, "params", "", "`PARAMS.json`: parameter values, a JSON object keyed by name (required)")
+		fs.StringVar(&o.format, "format", "text", "output `FORMAT`: text or json")
+		return func(env *runEnv, args []string) error { return runEval(env, &o, args) }
+	},
+}
+
+type evalOptions struct {
+	params, format string
 }
 
 type evalSource struct {
 	Name          string             `json:"name"`
-	LogLikelihood float64            `json:"log_likelihood"`
+	LogLikelihood jsonNumber         `json:"log_likelihood"`
 	Membership    map[string]float64 `json:"membership"`
 }
 
 type evalResult struct {
-	LogPrior      float64      `json:"log_prior"`
-	LogLikelihood float64      `json:"log_likelihood"`
-	Sources       []evalSource `json:"sources"`
+	LogPrior      jsonNumber     `json:"log_prior"`
+	LogLikelihood jsonNumber     `json:"log_likelihood"`
+	OutsidePrior  []outsideValue `json:"outside_prior"`
+	Sources       []evalSource   `json:"sources"`
 }
 
-func runEval(env *runEnv, args []string) error {
+// outsideValue is a parameter value that its prior does not allow.
+type outsideValue struct {
+	Name  string     `json:"name"`
+	Value float64    `json:"value"`
+	Prior string     `json:"prior"`
+	Low   jsonNumber `json:"low"`  // null when unbounded below
+	High  jsonNumber `json:"high"` // null when unbounded above
+}
+
+// String says in words what is wrong, e.g. "R0 = 12 is outside its prior uniform(6.5, 10),
+// which allows 6.5 to 10".
+func (o outsideValue) String() string {
+	lo, hi := float64(o.Low), float64(o.High)
+	var allowed string
+	switch {
+	case math.IsInf(lo, -1) && math.IsInf(hi, 1):
+		allowed = "any value"
+	case math.IsInf(lo, -1):
+		allowed = fmt.Sprintf("values up to %g", hi)
+	case math.IsInf(hi, 1):
+		allowed = fmt.Sprintf("values from %g", lo)
+	default:
+		allowed = fmt.Sprintf("%g to %g", lo, hi)
+	}
+	return fmt.Sprintf("%s = %g is outside its prior %s, which allows %s", o.Name, o.Value, o.Prior, allowed)
+}
+
+// jsonNumber is a float64 that JSON writes as null when it is not a finite number, which
+// JSON cannot hold.
+type jsonNumber float64
+
+// MarshalJSON writes the number, or null for ±Inf and NaN.
+func (x jsonNumber) MarshalJSON() ([]byte, error) {
+	f := float64(x)
+	if math.IsInf(f, 0) || math.IsNaN(f) {
+		return []byte("null"), nil
+	}
+	return json.Marshal(f)
+}
+
+func runEval(env *runEnv, o *evalOptions, args []string) error {
 	if len(args) != 1 {
 		return usageErrorf("want exactly one configuration file, got %d arguments", len(args))
 	}
-	paramsPath := env.flags.Lookup("params").Value.String()
-	format := env.flags.Lookup("format").Value.String()
+	paramsPath, format := o.params, o.format
 	if paramsPath == "" {
 		return usageErrorf("--params is required")
 	}
@@ -73,6 +126,9 @@ func runEval(env *runEnv, args []string) error {
 	if err != nil {
 		return err
 	}
+	for _, w := range cat.Warnings {
+		fmt.Fprintf(env.stderr, "warning: %s\n", w)
+	}
 	job, err := fit.Prepare(cfg, cat)
 	if err != nil {
 		return err
@@ -86,7 +142,21 @@ func runEval(env *runEnv, args []string) error {
 		enc.SetIndent("", "  ")
 		return enc.Encode(res)
 	}
-	fmt.Fprintf(env.stdout, "log prior       %.6f\nlog likelihood  %.6f\n\n", res.LogPrior, res.LogLikelihood)
+	fmt.Fprintf(env.stdout, "log prior       %.6f", res.LogPrior)
+	switch len(res.OutsidePrior) {
+	case 0:
+		if math.IsInf(float64(res.LogPrior), -1) {
+			fmt.Fprint(env.stdout, ": a derived quantity is outside its prior under [derived_priors]")
+		}
+	case 1:
+		fmt.Fprintf(env.stdout, ": %s", res.OutsidePrior[0])
+	default:
+		fmt.Fprint(env.stdout, ":")
+		for _, o := range res.OutsidePrior {
+			fmt.Fprintf(env.stdout, "\n  %s", o)
+		}
+	}
+	fmt.Fprintf(env.stdout, "\nlog likelihood  %.6f\n\n", res.LogLikelihood)
 	tw := tabwriter.NewWriter(env.stdout, 0, 0, 2, ' ', 0)
 	fmt.Fprint(tw, "source\tln L")
 	comps := job.Spec.NumComponents()
@@ -127,16 +197,26 @@ func evaluate(job *fit.Job, given map[string]float64) (*evalResult, error) {
 	if _, err := job.Like.BuildLayouts([]*model.Params{p}, job.Config.Sampler.Threads); err != nil {
 		return nil, err
 	}
-	res := &evalResult{LogPrior: job.Post.LogPrior(x)}
+	res := &evalResult{LogPrior: jsonNumber(job.Post.LogPrior(x)), OutsidePrior: []outsideValue{}}
+	for i, n := range names {
+		v, ok := values[n]
+		if !ok || priors[i].IsFixed() {
+			continue
+		}
+		if lo, hi := priors[i].Support(); v < lo || v > hi || math.IsInf(priors[i].LogProb(v), -1) {
+			res.OutsidePrior = append(res.OutsidePrior, outsideValue{Name: n, Value: v, Prior: priors[i].String(),
+				Low: jsonNumber(lo), High: jsonNumber(hi)})
+		}
+	}
 	memb := make([]float64, job.Spec.NumComponents())
 	for i, s := range job.Like.Sources {
 		ll := job.Like.SourceDetail(i, p, memb)
-		es := evalSource{Name: s.Name, LogLikelihood: ll, Membership: map[string]float64{}}
+		es := evalSource{Name: s.Name, LogLikelihood: jsonNumber(ll), Membership: map[string]float64{}}
 		for m, v := range memb {
 			es.Membership[job.Spec.ComponentName(m)] = v
 		}
 		if !job.Like.Excluded[i] {
-			res.LogLikelihood += ll
+			res.LogLikelihood += jsonNumber(ll)
 		}
 		res.Sources = append(res.Sources, es)
 	}

@@ -4,18 +4,19 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"os"
 	"path/filepath"
 	"slices"
-	"strings"
+	"strconv"
 
 	"gonum.org/v1/plot/font"
 	"gonum.org/v1/plot/vg"
 
 	"github.com/mirabilis-astro/mirabilis/arms"
+	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
 	"github.com/mirabilis-astro/mirabilis/mcmc"
 	"github.com/mirabilis-astro/mirabilis/model"
 	"github.com/mirabilis-astro/mirabilis/model/fit"
+	"github.com/mirabilis-astro/mirabilis/model/param"
 	"github.com/mirabilis-astro/mirabilis/model/prior"
 	"github.com/mirabilis-astro/mirabilis/plots"
 )
@@ -48,7 +49,7 @@ func writeFigures(out *fit.Outcome) ([]string, error) {
 		return nil, fmt.Errorf("figures: %w", err)
 	}
 	dir := filepath.Join(out.Dir, figuresDir)
-	if err := os.MkdirAll(dir, 0o755); err != nil {
+	if err := atomicfile.MkdirAll(dir); err != nil {
 		return nil, fmt.Errorf("figures: %w", err)
 	}
 	var paths []string
@@ -226,7 +227,7 @@ func (in *figureInput) posteriorMotions(n int) []*model.Motion {
 	rows, w := c.Len()-burn, c.Walkers()
 	n = min(n, rows*w)
 	for i := range n {
-		add(in.job.Post.Values(c.X[burn+i*rows/n][i%w]))
+		add(in.job.Post.Values(c.Position(burn+i*rows/n, i%w, nil)))
 	}
 	return out
 }
@@ -367,10 +368,10 @@ func rotationFigure(in *figureInput) (plots.Figure, vg.Length, vg.Length, error)
 	if d.RCore == 0 {
 		d.RCore = model.DefaultCoreRadius
 	}
-	if q, ok := in.quantity(model.ParamR0); ok {
+	if q, ok := in.quantity(param.R0); ok {
 		d.R0, d.R0Err = q.Median, (q.Hi68-q.Lo68)/2
 	}
-	if q, ok := in.quantity(model.ParamTheta0); ok {
+	if q, ok := in.quantity(param.Theta0); ok {
 		d.Theta0, d.Theta0Err = q.Median, (q.Hi68-q.Lo68)/2
 	}
 	fig, err := plots.RotationCurvePlot(d)
@@ -402,10 +403,10 @@ const maxArmTriangle = 16
 // dispersion, width slope), the arm parameters, and the fractions' stick-breaking reals.
 func chainColumns(names []string, armNames []string) (globals, armParams, sticks []int) {
 	for j, n := range names {
-		switch {
-		case strings.HasPrefix(n, "stick_"):
+		switch info, _ := param.Lookup(n, armNames); {
+		case param.IsStickName(n):
 			sticks = append(sticks, j)
-		case armOf(n, armNames) != "":
+		case info.Kind == param.Arm:
 			armParams = append(armParams, j)
 		default:
 			globals = append(globals, j)
@@ -414,52 +415,18 @@ func chainColumns(names []string, armNames []string) (globals, armParams, sticks
 	return globals, armParams, sticks
 }
 
-// armSuffixes are the endings of arm parameter names and the units of each.
-var armSuffixes = []struct{ suffix, unit string }{
-	{"_Rref", "kpc"}, {"_pitch2", "deg"}, {"_pitch", "deg"}, {"_kink", "deg"}, {"_width", "kpc"},
-}
-
-// armOf returns the arm a parameter name belongs to, "" for none.
-func armOf(name string, armNames []string) string {
-	for _, s := range armSuffixes {
-		if a, ok := strings.CutSuffix(name, s.suffix); ok && slices.Contains(armNames, a) {
-			return a
-		}
-	}
-	return ""
-}
-
-// paramLabel returns a parameter's name with its unit, for axis labels.
-func paramLabel(name string) string {
-	unit := ""
-	switch {
-	case name == model.ParamR0:
-		unit = "kpc"
-	case name == model.ParamSlope:
-		unit = "km/s/kpc"
-	case name == model.ParamTheta0, name == "sigma_vir", strings.HasPrefix(name, "Theta_"),
-		slices.Contains([]string{model.ParamUsun, model.ParamVsun, model.ParamWsun, model.ParamUs, model.ParamVs, model.ParamWs}, name):
-		unit = "km/s"
-	default:
-		for _, s := range armSuffixes {
-			if strings.HasSuffix(name, s.suffix) {
-				unit = s.unit
-				break
-			}
-		}
-	}
-	if unit == "" {
-		return name
-	}
-	return name + " (" + unit + ")"
-}
+// paramLabel returns a parameter's name with its unit, for axis labels, in a model with
+// the given arms.
+func paramLabel(name string, armNames []string) string { return param.Label(name, armNames) }
 
 // samplesAfterBurn returns the chain's draws after the summary's burn-in, keeping the
 // columns cols.
 func samplesAfterBurn(c *mcmc.Chain, burn int, cols []int) [][]float64 {
 	var out [][]float64
+	var x []float64
 	for t := max(burn, 0); t < c.Len(); t++ {
-		for _, x := range c.X[t] {
+		for k := range c.Walkers() {
+			x = c.Position(t, k, x)
 			row := make([]float64, len(cols))
 			for k, j := range cols {
 				row[k] = x[j]
@@ -515,7 +482,8 @@ func globalsTriangle(in *figureInput) (plots.Figure, vg.Length, vg.Length, error
 		return nil, 0, 0, nil
 	}
 	globals, _, _ := chainColumns(c.Names, armNames(in.arms))
-	return in.triangle("Global parameters after burn-in", globals, paramLabel)
+	arms := armNames(in.arms)
+	return in.triangle("Global parameters after burn-in", globals, func(n string) string { return paramLabel(n, arms) })
 }
 
 // armsTriangle draws the triangle plot of the sampled arm parameters, or of their reference
@@ -542,7 +510,8 @@ func armColumnsToShow(names, armNames []string) (full bool, cols []int) {
 		return true, all
 	}
 	for _, j := range all {
-		if strings.HasSuffix(names[j], "_Rref") || strings.HasSuffix(names[j], "_pitch") {
+		info, _ := param.Lookup(names[j], armNames)
+		if names[j] == info.Arm+param.SuffixRref || names[j] == info.Arm+param.SuffixPitch {
 			cols = append(cols, j)
 		}
 	}
@@ -583,8 +552,9 @@ func traceFigure(in *figureInput) (plots.Figure, vg.Length, vg.Length, error) {
 	trace := make([][][]float64, c.Len())
 	reals := make([]float64, len(sticks))
 	for t := range trace {
-		trace[t] = make([][]float64, len(c.X[t]))
-		for w, x := range c.X[t] {
+		trace[t] = make([][]float64, c.Walkers())
+		for w := range trace[t] {
+			x := c.Position(t, w, nil)
 			row := make([]float64, 0, len(names))
 			for _, j := range keep {
 				row = append(row, x[j])
@@ -625,9 +595,9 @@ func traceFigure(in *figureInput) (plots.Figure, vg.Length, vg.Length, error) {
 // fractionLabel names the membership fraction of component k.
 func fractionLabel(components []string, k int) string {
 	if k < len(components) {
-		return "f_" + components[k]
+		return param.FractionName(components[k])
 	}
-	return fmt.Sprintf("f_%d", k)
+	return param.FractionName(strconv.Itoa(k))
 }
 
 // ---- membership ----

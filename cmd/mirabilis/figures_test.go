@@ -66,7 +66,11 @@ func TestFiguresOfSmallFit(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	data, _, err := m.Render(nil)
+	spec, err := fit.SpecFromConfig(m.Config)
+	if err != nil {
+		t.Fatal(err)
+	}
+	data, _, err := m.Render(spec, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -338,7 +342,7 @@ func TestChainColumns(t *testing.T) {
 	}
 	for name, want := range map[string]string{"R0": "R0 (kpc)", "dTheta_dR": "dTheta_dR (km/s/kpc)", "Vs": "Vs (km/s)",
 		"Corvid_pitch2": "Corvid_pitch2 (deg)", "Corvid_width": "Corvid_width (kpc)", "alpha": "alpha", "f_field": "f_field"} {
-		if got := paramLabel(name); got != want {
+		if got := paramLabel(name, armNames); got != want {
 			t.Errorf("paramLabel(%q) = %q, want %q", name, got, want)
 		}
 	}

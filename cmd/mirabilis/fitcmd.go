@@ -8,7 +8,6 @@ import (
 	"io"
 	"math"
 	"os"
-	"strconv"
 	"time"
 
 	"golang.org/x/term"
@@ -18,12 +17,11 @@ import (
 	"github.com/mirabilis-astro/mirabilis/model/fit"
 )
 
-func init() {
-	register(&command{
-		Name:  "fit",
-		Usage: "CONFIG.toml [--out DIR] [--seed N] [--threads N] [--steps N] [--resume] [--force] [--time DURATION]",
-		Short: "fit the joint model to a catalog",
-		Long: `Fit reads the run configuration CONFIG.toml (see "mirabilis help config") and the
+var fitCommand = &command{
+	Name:  "fit",
+	Usage: "CONFIG.toml [--out DIR] [--seed N] [--threads N] [--steps N] [--resume] [--force] [--time DURATION]",
+	Short: "fit the joint model to a catalog",
+	Long: `Fit reads the run configuration CONFIG.toml (see "mirabilis help config") and the
 catalog it names, checks both completely, and then fits the joint model — spiral arms,
 rotation curve, the Sun's motion, the sources' mean motion and every source's arm
 membership, with each source's distance integrated out — by sampling the posterior
@@ -39,7 +37,8 @@ Everything goes to the run directory (the configuration's output, or --out):
                   given to fit as it is
   run.json        the state of the run and the hashes of its configuration and catalog
   pilot.json      the maximum a posteriori point and the quadrature statistics
-  chain.csv       the chain: step, walker, log_density, then one column per sampled
+  chain.npy       the chain, as a NumPy array of shape (steps, walkers) with the
+                  fields step, walker, log_density, then one per sampled
                   coordinate (free parameters; stick_k for the membership fractions)
   checkpoint.bin  the sampler's state and the quadratures, for --resume
   log.txt         what the run reported
@@ -60,47 +59,46 @@ at step 17 and resumed with --steps 40 ends exactly as a run of 40 would. Resumi
 is refused if the configuration or the catalog changed.
 
 The same seed gives the same chain, whatever the number of threads.`,
-		SetFlags: func(fs *flag.FlagSet) {
-			fs.String("out", "", "run directory `DIR` (default: the configuration's output)")
-			fs.String("seed", "", "`N`, the seed of the random streams (default: the configuration's)")
-			fs.Int("threads", 0, "`N` goroutines evaluating the likelihood (default: the configuration's, 0 = all cores)")
-			fs.Int("steps", 0, "total chain length `N` (default: the configuration's)")
-			fs.Bool("resume", false, "continue the stopped run in the run directory")
-			fs.Bool("force", false, "replace a run directory that holds a run")
-			fs.Duration("time", 0, "stop cleanly after `DURATION` (e.g. 2h30m), leaving a run to --resume")
-		},
-		Run: runFit,
-	})
-	registerTopic(&topic{Name: "config", Short: "the run configuration (TOML)", Text: func() string { return config.HelpText }})
+	Flags: func(fs *flag.FlagSet) runFunc {
+		var o fitFlags
+		fs.StringVar(&o.opts.Out, "out", "", "run directory `DIR` (default: the configuration's output)")
+		fs.Var(&o.seed, "seed", "`N`, the seed of the random streams (default: the configuration's)")
+		fs.IntVar(&o.opts.Threads, "threads", 0, "`N` goroutines evaluating the likelihood (default: the configuration's, 0 = all cores)")
+		fs.IntVar(&o.opts.Steps, "steps", 0, "total chain length `N` (default: the configuration's)")
+		fs.BoolVar(&o.opts.Resume, "resume", false, "continue the stopped run in the run directory")
+		fs.BoolVar(&o.opts.Force, "force", false, "replace a run directory that holds a run")
+		fs.DurationVar(&o.opts.MaxDuration, "time", 0, "stop cleanly after `DURATION` (e.g. 2h30m), leaving a run to --resume")
+		return func(env *runEnv, args []string) error { return runFit(env, &o, args) }
+	},
 }
 
-func fitOptions(env *runEnv) (fit.Options, error) {
-	var o fit.Options
-	seed, err := seedFlag(env)
-	if err != nil {
-		return o, err
-	}
-	o.Seed = seed
-	o.Out = env.flags.Lookup("out").Value.String()
-	o.Threads, _ = strconv.Atoi(env.flags.Lookup("threads").Value.String())
-	o.Steps, _ = strconv.Atoi(env.flags.Lookup("steps").Value.String())
+// fitFlags holds the flags of fit.
+type fitFlags struct {
+	opts fit.Options
+	seed seedValue
+}
+
+// options checks the flags and returns them as the fit's options.
+func (f *fitFlags) options() (fit.Options, error) {
+	o := f.opts
+	o.Seed = f.seed.get()
 	if o.Threads < 0 || o.Steps < 0 {
 		return o, usageErrorf("--threads and --steps must not be negative")
 	}
-	o.Resume = env.flags.Lookup("resume").Value.String() == "true"
-	o.Force = env.flags.Lookup("force").Value.String() == "true"
 	if o.Resume && o.Force {
 		return o, usageErrorf("--resume and --force exclude each other")
 	}
-	o.MaxDuration, _ = time.ParseDuration(env.flags.Lookup("time").Value.String())
+	if o.MaxDuration < 0 {
+		return o, usageErrorf("--time %s: must not be negative", o.MaxDuration)
+	}
 	return o, nil
 }
 
-func runFit(env *runEnv, args []string) error {
+func runFit(env *runEnv, f *fitFlags, args []string) error {
 	if len(args) != 1 {
 		return usageErrorf("want exactly one configuration file, got %d arguments", len(args))
 	}
-	opts, err := fitOptions(env)
+	opts, err := f.options()
 	if err != nil {
 		return err
 	}

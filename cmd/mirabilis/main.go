@@ -14,10 +14,15 @@ import (
 	"io"
 	"os"
 	"os/signal"
-	"sort"
+	"runtime"
+	"runtime/debug"
 	"strings"
 	"syscall"
 	"text/tabwriter"
+
+	"github.com/mirabilis-astro/mirabilis/internal/spelling"
+	"github.com/mirabilis-astro/mirabilis/model/catalog"
+	"github.com/mirabilis-astro/mirabilis/model/config"
 )
 
 // A command is one subcommand of the tool, in the manner of the go command: a usage line, a
@@ -28,11 +33,14 @@ type command struct {
 	Short string // one line, no final period
 	Long  string // the full help text
 
-	// SetFlags registers the command's flags; it may be nil.
-	SetFlags func(fs *flag.FlagSet)
-	// Run executes the command with the arguments left after flag parsing.
-	Run func(env *runEnv, args []string) error
+	// Flags registers the command's flags on fs, each bound to a variable of its own, and
+	// returns the function that runs the command, reading those variables, with the
+	// arguments left after parsing.
+	Flags func(fs *flag.FlagSet) runFunc
 }
+
+// A runFunc runs a command with the arguments left after its flags.
+type runFunc func(env *runEnv, args []string) error
 
 // A topic is a help page that is not a command, such as a file format.
 type topic struct {
@@ -47,7 +55,6 @@ type runEnv struct {
 	ctx    context.Context
 	stdout io.Writer
 	stderr io.Writer
-	flags  *flag.FlagSet
 }
 
 // errUsage marks an error in the way a command was called; the usage line follows it.
@@ -58,13 +65,24 @@ type exitError struct{ code int }
 
 func (e exitError) Error() string { return fmt.Sprintf("exit status %d", e.code) }
 
-var commands []*command
+// commands lists the commands in the order "mirabilis help" shows them: the fit and what
+// it reads first, then the tools around it.
+var commands = []*command{
+	fitCommand,
+	evalCommand,
+	simulateCommand,
+	checkCommand,
+	predictCommand,
+	demoCommand,
+}
 
-var topics []*topic
-
-func register(c *command) { commands = append(commands, c) }
-
-func registerTopic(t *topic) { topics = append(topics, t) }
+// topics lists the help pages that are not commands, in the order "mirabilis help" shows
+// them.
+var topics = []*topic{
+	{Name: "catalog", Short: "the source catalog format (CSV)", Text: func() string { return catalog.HelpText }},
+	{Name: "config", Short: "the run configuration (TOML)", Text: func() string { return config.HelpText }},
+	{Name: "params", Short: "parameter files (JSON) and parameter names", Text: func() string { return paramsHelp }},
+}
 
 func lookup(name string) *command {
 	for _, c := range commands {
@@ -73,6 +91,21 @@ func lookup(name string) *command {
 		}
 	}
 	return nil
+}
+
+// commandNames returns the names of the commands and, if withTopics, of the help topics,
+// for suggestions.
+func commandNames(withTopics bool) []string {
+	var names []string
+	for _, c := range commands {
+		names = append(names, c.Name)
+	}
+	if withTopics {
+		for _, t := range topics {
+			names = append(names, t.Name)
+		}
+	}
+	return names
 }
 
 func main() {
@@ -93,28 +126,29 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	switch name {
 	case "help", "-h", "-help", "--help":
 		return runHelp(args[1:], stdout, stderr)
+	case "version", "-version", "--version":
+		fmt.Fprintln(stdout, versionLine())
+		return 0
 	}
 	c := lookup(name)
 	if c == nil {
-		fmt.Fprintf(stderr, "mirabilis: unknown command %q\nRun 'mirabilis help' for the list of commands.\n", name)
+		fmt.Fprintf(stderr, "mirabilis: unknown command %q%s\nRun 'mirabilis help' for the list of commands.\n", name, didYouMean(name, commandNames(false), ""))
 		return 2
 	}
 	fs := flag.NewFlagSet(c.Name, flag.ContinueOnError)
 	fs.SetOutput(io.Discard)
-	if c.SetFlags != nil {
-		c.SetFlags(fs)
-	}
+	runCmd := c.Flags(fs)
 	if err := fs.Parse(interleave(fs, args[1:])); err != nil {
 		if errors.Is(err, flag.ErrHelp) {
 			printCommandHelp(stdout, c)
 			return 0
 		}
-		fmt.Fprintf(stderr, "mirabilis %s: %v\nusage: mirabilis %s %s\nRun 'mirabilis help %s' for details.\n",
-			c.Name, err, c.Name, c.Usage, c.Name)
+		fmt.Fprintf(stderr, "mirabilis %s: %s\nusage: mirabilis %s %s\nRun 'mirabilis help %s' for details.\n",
+			c.Name, flagError(fs, err), c.Name, c.Usage, c.Name)
 		return 2
 	}
-	env := &runEnv{ctx: ctx, stdout: stdout, stderr: stderr, flags: fs}
-	err := c.Run(env, fs.Args())
+	env := &runEnv{ctx: ctx, stdout: stdout, stderr: stderr}
+	err := runCmd(env, fs.Args())
 	switch {
 	case err == nil:
 		return 0
@@ -192,9 +226,7 @@ Commands:
 	}
 	tw.Flush()
 	fmt.Fprint(w, "\nUse \"mirabilis help <command>\" for more about a command.\n\nHelp topics:\n\n")
-	sorted := append([]*topic(nil), topics...)
-	sort.Slice(sorted, func(i, j int) bool { return sorted[i].Name < sorted[j].Name })
-	for _, t := range sorted {
+	for _, t := range topics {
 		fmt.Fprintf(tw, "\t%s\t%s\n", t.Name, t.Short)
 	}
 	tw.Flush()
@@ -204,9 +236,7 @@ Commands:
 func printCommandHelp(w io.Writer, c *command) {
 	fmt.Fprintf(w, "usage: mirabilis %s %s\n\n%s\n", c.Name, c.Usage, strings.TrimSpace(c.Long))
 	fs := flag.NewFlagSet(c.Name, flag.ContinueOnError)
-	if c.SetFlags != nil {
-		c.SetFlags(fs)
-	}
+	c.Flags(fs)
 	has := false
 	fs.VisitAll(func(*flag.Flag) { has = true })
 	if has {
@@ -245,6 +275,76 @@ func runHelp(args []string, stdout, stderr io.Writer) int {
 			return 0
 		}
 	}
-	fmt.Fprintf(stderr, "mirabilis help: unknown command or topic %q\nRun 'mirabilis help' for the list.\n", args[0])
+	fmt.Fprintf(stderr, "mirabilis help: unknown command or topic %q%s\nRun 'mirabilis help' for the list.\n", args[0], didYouMean(args[0], commandNames(true), ""))
 	return 2
+}
+
+// didYouMean returns " (did you mean PREFIXword?)" for the known word nearest to word, or ""
+// when none is near.
+func didYouMean(word string, known []string, prefix string) string {
+	if s := spelling.Nearest(word, known); s != "" {
+		return fmt.Sprintf(" (did you mean %s%s?)", prefix, s)
+	}
+	return ""
+}
+
+// flagError rewrites an error of the flag package in the tool's terms: flags are written
+// with two dashes, and a flag that does not exist gets the nearest one suggested.
+func flagError(fs *flag.FlagSet, err error) string {
+	msg := err.Error()
+	const undefined = "flag provided but not defined: "
+	if name, ok := strings.CutPrefix(msg, undefined); ok {
+		name = strings.TrimLeft(name, "-")
+		var known []string
+		fs.VisitAll(func(f *flag.Flag) { known = append(known, f.Name) })
+		return fmt.Sprintf("unknown flag --%s%s", name, didYouMean(name, known, "--"))
+	}
+	// "invalid value "x" for flag -seed: …" names the flag with one dash.
+	return strings.Replace(msg, "for flag -", "for flag --", 1)
+}
+
+// version is the tool's version; release builds set it with
+// -ldflags "-X main.version=v1.2.3". Otherwise the module's version and the commit the
+// binary was built from are shown.
+var version = ""
+
+// versionLine returns "mirabilis VERSION" with the commit and Go release the binary was built
+// with, as far as the build recorded them.
+func versionLine() string {
+	v := version
+	var commit, when, modified string
+	goVersion := runtime.Version()
+	if bi, ok := debug.ReadBuildInfo(); ok {
+		if v == "" {
+			v = bi.Main.Version
+		}
+		goVersion = bi.GoVersion
+		for _, s := range bi.Settings {
+			switch s.Key {
+			case "vcs.revision":
+				commit = s.Value
+			case "vcs.time":
+				when = s.Value
+			case "vcs.modified":
+				if s.Value == "true" {
+					modified = " with local changes"
+				}
+			}
+		}
+	}
+	if v == "" {
+		v = "(devel)"
+	}
+	line := "mirabilis " + v
+	if commit != "" {
+		if len(commit) > 12 {
+			commit = commit[:12]
+		}
+		line += ", commit " + commit
+		if when != "" {
+			line += " of " + when
+		}
+		line += modified
+	}
+	return line + ", built with " + goVersion
 }

@@ -130,7 +130,7 @@ func TestSimulateCheckEval(t *testing.T) {
 	dir := t.TempDir()
 	os.WriteFile(filepath.Join(dir, "galaxy.toml"), demoGalaxy, 0o644)
 	os.WriteFile(filepath.Join(dir, "demo-fit.toml"), demoFit, 0o644)
-	code, _, errs := runCLI(t, "simulate", filepath.Join(dir, "galaxy.toml"), "--seed", "3")
+	code, _, errs := runCLI(t, "simulate", filepath.Join(dir, "galaxy.toml"), "--seed", "3", "--out", filepath.Join(dir, "sources.csv"))
 	if code != 0 {
 		t.Fatalf("simulate: exit %d: %s", code, errs)
 	}

@@ -11,16 +11,17 @@ import (
 	"os"
 	"strconv"
 	"strings"
+	"text/tabwriter"
 
 	"github.com/mirabilis-astro/mirabilis/model"
+	"github.com/mirabilis-astro/mirabilis/model/param"
 )
 
-func init() {
-	register(&command{
-		Name:  "predict",
-		Usage: "--params PARAMS.json --at POINTS.csv [--format csv|json] [--core-radius KPC]",
-		Short: "predict what sources at given places would be seen to do",
-		Long: `Predict computes, for a parameter set and a list of places in the Galaxy, what a
+var predictCommand = &command{
+	Name:  "predict",
+	Usage: "--params PARAMS.json --at POINTS.csv [--format csv|json] [--core-radius KPC]",
+	Short: "predict what sources at given places would be seen to do",
+	Long: `Predict computes, for a parameter set and a list of places in the Galaxy, what a
 source at each place would be seen to do if it moved exactly with the model: its
 Galactocentric radius and azimuth, the circular speed there, its proper motions in
 equatorial and Galactic coordinates and its line-of-sight velocity, heliocentric and
@@ -34,49 +35,48 @@ The output has one row (csv) or one object (json) per point with the keys
   name, l, b, ra, dec (deg), distance (kpc), R (kpc), beta (deg), theta (km/s),
   pmra, pmdec, pml, pmb (mas/yr; pmra = μα cos δ, pml = μl cos b),
   vhelio, vlsr (km/s).`,
-		SetFlags: func(fs *flag.FlagSet) {
-			fs.String("params", "", "`PARAMS.json`: parameter values, a JSON object keyed by name (required)")
-			fs.String("at", "", "`POINTS.csv`: the places, CSV with l,b or ra,dec and distance (required)")
-			fs.String("format", "csv", "output `FORMAT`: csv or json")
-			fs.Float64("core-radius", model.DefaultCoreRadius, "radius `KPC` inside which the rotation rises as a solid body")
-		},
-		Run: runPredict,
-	})
-	registerTopic(&topic{Name: "params", Short: "parameter files (JSON) and parameter names", Text: func() string { return paramsHelp }})
+	Flags: func(fs *flag.FlagSet) runFunc {
+		var o predictOptions
+		fs.StringVar(&o.params, "params", "", "`PARAMS.json`: parameter values, a JSON object keyed by name (required)")
+		fs.StringVar(&o.at, "at", "", "`POINTS.csv`: the places, CSV with l,b or ra,dec and distance (required)")
+		fs.StringVar(&o.format, "format", "csv", "output `FORMAT`: csv or json")
+		fs.Float64Var(&o.coreRadius, "core-radius", model.DefaultCoreRadius, "radius `KPC` inside which the rotation rises as a solid body")
+		return func(env *runEnv, args []string) error { return runPredict(env, &o, args) }
+	},
 }
 
-const paramsHelp = `A parameter file is a JSON object of parameter values keyed by name, for
-example
+type predictOptions struct {
+	params, at, format string
+	coreRadius         float64
+}
 
-	{"R0": 8.15, "Theta0": 236, "dTheta_dR": -0.5,
-	 "Usun": 10.6, "Vsun": 10.7, "Wsun": 7.6, "Us": 0, "Vs": -4, "Ws": 0,
-	 "sigma_vir": 5}
+var paramsHelp = `A parameter file is a JSON object of parameter values keyed by name, for
+example the true values of the demo galaxy ("mirabilis demo")
+
+	{"R0": 8.25, "Theta0": 232, "dTheta_dR": -0.6,
+	 "Usun": 10.5, "Vsun": 12.5, "Wsun": 7.5, "Us": 2, "Vs": -3, "Ws": 0,
+	 "sigma_vir": 6}
 
 It is read by "mirabilis predict" and "mirabilis eval". The names are those of the
 run configuration, the chain file and the summaries:
 
-  R0            kpc        distance of the Sun from the Galactic centre
-  Theta0        km/s       circular speed at R0 (linear and power curves)
-  dTheta_dR     km/s/kpc   slope of the linear rotation curve
-  alpha                    exponent of the power-law rotation curve
-  Theta_1 …     km/s       speeds at the node radii of the nodes curve
-  Usun Vsun Wsun km/s      the Sun's motion relative to circular rotation:
-                           toward the centre, along rotation, toward the NGP
-  Us Vs Ws      km/s       the sources' mean peculiar motion, same axes
-  sigma_vir     km/s       the sources' velocity scatter about that mean
-  width_slope   kpc/kpc    growth of the arms' widths with radius
-  NAME_Rref     kpc        radius of arm NAME at its reference azimuth
-  NAME_pitch    deg        its pitch angle (below the kink, for a kinked arm)
-  NAME_pitch2   deg        its pitch angle beyond the kink
-  NAME_kink     deg        the azimuth of its kink
-  NAME_width    kpc        its width at R0
-  f_field, f_NAME          membership fractions of the field and each arm
-
+` + paramTableText() + `
 The rotation-curve family is told by the names present: dTheta_dR for the
 linear curve, alpha for the power law, Theta_1 … for the nodes curve. Derived
-quantities reported in summaries: Omega_sun = (Theta0 + Vsun)/R0,
-Theta0_over_R0, Theta0_plus_Vsun, Oort_A, Oort_B (km/s/kpc), NAME_Rsun (kpc,
-where arm NAME crosses the line from the centre through the Sun).`
+quantities are reported in summaries and may take priors under
+[derived_priors]; a parameter file may hold them, and they are not used.`
+
+// paramTableText lists the parameter table (package param): name, unit, kind and meaning.
+func paramTableText() string {
+	var b strings.Builder
+	tw := tabwriter.NewWriter(&b, 0, 0, 2, ' ', 0)
+	fmt.Fprintln(tw, "  name\tunit\tkind\tmeaning")
+	for _, e := range param.Table() {
+		fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\n", e.Name, e.Unit, e.Kind, e.Description)
+	}
+	tw.Flush()
+	return b.String()
+}
 
 // point is one place at which to predict.
 type point struct {
@@ -89,19 +89,18 @@ type point struct {
 var predictKeys = []string{"name", "l", "b", "ra", "dec", "distance", "R", "beta", "theta",
 	"pmra", "pmdec", "pml", "pmb", "vhelio", "vlsr"}
 
-func runPredict(env *runEnv, args []string) error {
+func runPredict(env *runEnv, o *predictOptions, args []string) error {
 	if len(args) > 0 {
 		return usageErrorf("unexpected argument %q", args[0])
 	}
-	get := func(n string) string { return env.flags.Lookup(n).Value.String() }
-	paramsPath, atPath, format := get("params"), get("at"), get("format")
+	paramsPath, atPath, format := o.params, o.at, o.format
 	if paramsPath == "" || atPath == "" {
 		return usageErrorf("--params and --at are both required")
 	}
 	if format != "csv" && format != "json" {
 		return usageErrorf("--format %q: want csv or json", format)
 	}
-	rcore, _ := strconv.ParseFloat(get("core-radius"), 64)
+	rcore := o.coreRadius
 	values, err := model.ReadParamValues(paramsPath)
 	if err != nil {
 		return err

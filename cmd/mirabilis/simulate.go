@@ -2,6 +2,7 @@ package main
 
 import (
 	"bytes"
+	"errors"
 	"flag"
 	"fmt"
 	"os"
@@ -9,16 +10,16 @@ import (
 	"strconv"
 	"strings"
 
+	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
 	"github.com/mirabilis-astro/mirabilis/model/fit"
 	"github.com/mirabilis-astro/mirabilis/model/mock"
 )
 
-func init() {
-	register(&command{
-		Name:  "simulate",
-		Usage: "MODEL.toml [--seed N] [-o CATALOG.csv] [--truth TRUTH.csv]",
-		Short: "draw a mock catalog from a model with known parameters",
-		Long: `Simulate draws a mock catalog from the model described in MODEL.toml: a run
+var simulateCommand = &command{
+	Name:  "simulate",
+	Usage: "MODEL.toml [--seed N] [--out CATALOG.csv] [--truth TRUTH.csv] [--force]",
+	Short: "draw a mock catalog from a model with known parameters",
+	Long: `Simulate draws a mock catalog from the model described in MODEL.toml: a run
 configuration (see "mirabilis help config") whose parameter priors hold the true
 values — write them as fixed(v); a prior that is not fixed contributes its median —
 and one more table, [survey], which says how many sources to draw, where the survey
@@ -43,19 +44,30 @@ can see and how well it measures:
 Arm sources are spread uniformly in azimuth over each arm's range and as a
 Gaussian across it, field sources follow the exponential disk; every source moves
 with the model's rotation and mean peculiar motion plus the intrinsic scatter
-(sigma_vir, and the bar's inside R_inner). The catalog goes to -o (default: the
-configuration's catalog path; "-" is standard output), the true distances and
-memberships to --truth (default: the catalog's name with "-truth" added).`,
-		SetFlags: func(fs *flag.FlagSet) {
-			fs.String("o", "", "the catalog to write, `CATALOG.csv` (default: the configuration's catalog path; - for standard output)")
-			fs.String("truth", "", "`TRUTH.csv`, where to write the true distances and memberships")
-			fs.String("seed", "", "`N`, the seed of the draws, replacing the survey's")
-		},
-		Run: runSimulate,
-	})
+(sigma_vir, and the bar's inside R_inner).
+
+The catalog goes to --out, by default MODEL-mock.csv next to MODEL.toml ("-" is
+standard output); the true distances and memberships go to --truth, by default the
+catalog's name with "-truth" added (MODEL-mock-truth.csv when the catalog goes to
+standard output). The catalog that MODEL.toml names is never written. An existing
+file is not replaced without --force. Simulate says where every file went.`,
+	Flags: func(fs *flag.FlagSet) runFunc {
+		var o simulateOptions
+		fs.StringVar(&o.out, "out", "", "the catalog to write, `CATALOG.csv` (default: MODEL-mock.csv next to MODEL.toml; - for standard output)")
+		fs.StringVar(&o.truth, "truth", "", "`TRUTH.csv`, where to write the true distances and memberships")
+		fs.Var(&o.seed, "seed", "`N`, the seed of the draws, replacing the survey's")
+		fs.BoolVar(&o.force, "force", false, "replace files that exist")
+		return func(env *runEnv, args []string) error { return runSimulate(env, &o, args) }
+	},
 }
 
-func runSimulate(env *runEnv, args []string) error {
+type simulateOptions struct {
+	out, truth string
+	seed       seedValue
+	force      bool
+}
+
+func runSimulate(env *runEnv, o *simulateOptions, args []string) error {
 	if len(args) != 1 {
 		return usageErrorf("want exactly one model file, got %d arguments", len(args))
 	}
@@ -63,35 +75,88 @@ func runSimulate(env *runEnv, args []string) error {
 	if err != nil {
 		return err
 	}
-	seed, err := seedFlag(env)
-	if err != nil {
-		return err
-	}
-	out := env.flags.Lookup("o").Value.String()
+	base := strings.TrimSuffix(args[0], filepath.Ext(args[0])) + "-mock"
+	out := o.out
 	if out == "" {
-		out = m.Config.Catalog
+		out = base + ".csv"
 	}
-	truthPath := env.flags.Lookup("truth").Value.String()
-	if truthPath == "" && out != "-" {
+	truthPath := o.truth
+	switch {
+	case truthPath != "":
+	case out == "-":
+		truthPath = base + "-truth.csv"
+	default:
 		truthPath = strings.TrimSuffix(out, filepath.Ext(out)) + "-truth.csv"
 	}
-	n, err := simulateTo(m, seed, out, truthPath, env)
+	if truthPath == "-" {
+		return usageErrorf("--truth -: the true values go to a file; only the catalog may go to standard output")
+	}
+	if out != "-" && sameFile(out, truthPath) {
+		return usageErrorf("--out and --truth name the same file %s", out)
+	}
+	if !o.force {
+		var exist []string
+		for _, p := range []string{out, truthPath} {
+			if p == "-" {
+				continue
+			}
+			if _, err := os.Stat(p); err == nil {
+				exist = append(exist, p)
+			}
+		}
+		if len(exist) > 0 {
+			return fmt.Errorf("%s already exists; --force replaces it, --out and --truth write elsewhere", strings.Join(exist, " and "))
+		}
+	}
+	n, err := simulateTo(m, o.seed.get(), out, truthPath, env)
 	if err != nil {
 		return err
 	}
-	if out != "-" {
-		fmt.Fprintf(env.stderr, "wrote %d sources to %s", n, out)
-		if truthPath != "" {
-			fmt.Fprintf(env.stderr, " and their true values to %s", truthPath)
-		}
-		fmt.Fprintln(env.stderr)
+	if out == "-" {
+		fmt.Fprintf(env.stderr, "wrote %d sources to standard output and their true values to %s\n", n, truthPath)
+	} else {
+		fmt.Fprintf(env.stderr, "wrote %d sources to %s and their true values to %s\n", n, out, truthPath)
+	}
+	if out != "-" && !sameFile(out, m.Config.Catalog) {
+		fmt.Fprintf(env.stderr, "%s names the catalog %s, which was left as it is; a fit of the mock needs catalog = %q\n",
+			args[0], m.Config.Catalog, relativeTo(filepath.Dir(args[0]), out))
 	}
 	return nil
 }
 
+// sameFile reports whether two paths name the same file, as far as can be told without
+// either existing: the same absolute path, or the same file on disk.
+func sameFile(a, b string) bool {
+	if sa, err := os.Stat(a); err == nil {
+		if sb, err := os.Stat(b); err == nil {
+			return os.SameFile(sa, sb)
+		}
+	}
+	aa, err1 := filepath.Abs(a)
+	ab, err2 := filepath.Abs(b)
+	return err1 == nil && err2 == nil && aa == ab
+}
+
+// relativeTo returns path relative to the folder dir when it can, else path made absolute.
+func relativeTo(dir, path string) string {
+	ad, err1 := filepath.Abs(dir)
+	ap, err2 := filepath.Abs(path)
+	if err1 != nil || err2 != nil {
+		return path
+	}
+	if r, err := filepath.Rel(ad, ap); err == nil {
+		return filepath.ToSlash(r)
+	}
+	return ap
+}
+
 // simulateTo draws the mock and writes the catalog (to stdout for "-") and the truth file.
 func simulateTo(m *mock.Model, seed *uint64, out, truthPath string, env *runEnv) (int, error) {
-	data, truth, err := m.Render(seed)
+	spec, err := fit.SpecFromConfig(m.Config)
+	if err != nil {
+		return 0, err
+	}
+	data, truth, err := m.Render(spec, seed)
 	if err != nil {
 		return 0, err
 	}
@@ -100,32 +165,50 @@ func simulateTo(m *mock.Model, seed *uint64, out, truthPath string, env *runEnv)
 			return 0, err
 		}
 	} else {
-		if err := os.MkdirAll(filepath.Dir(out), 0o755); err != nil {
+		if err := atomicfile.MkdirAll(filepath.Dir(out)); err != nil {
 			return 0, err
 		}
-		if err := fit.WriteFileAtomic(out, data); err != nil {
+		if err := atomicfile.Write(out, data); err != nil {
 			return 0, err
 		}
 	}
 	if truthPath != "" {
 		var tb bytes.Buffer
 		mock.WriteTruth(&tb, truth)
-		if err := fit.WriteFileAtomic(truthPath, tb.Bytes()); err != nil {
+		if err := atomicfile.Write(truthPath, tb.Bytes()); err != nil {
 			return 0, err
 		}
 	}
 	return len(truth), nil
 }
 
-// seedFlag returns the value of a --seed flag, nil when it was not given.
-func seedFlag(env *runEnv) (*uint64, error) {
-	s := env.flags.Lookup("seed").Value.String()
-	if s == "" {
-		return nil, nil
+// seedValue is the value of a --seed flag: a non-negative whole number, or unset.
+type seedValue struct {
+	v   uint64
+	set bool
+}
+
+func (s *seedValue) String() string {
+	if s == nil || !s.set {
+		return ""
 	}
-	v, err := strconv.ParseUint(s, 10, 64)
+	return strconv.FormatUint(s.v, 10)
+}
+
+func (s *seedValue) Set(text string) error {
+	v, err := strconv.ParseUint(text, 10, 64)
 	if err != nil {
-		return nil, usageErrorf("--seed %q: want a non-negative whole number", s)
+		return errors.New("want a non-negative whole number")
 	}
-	return &v, nil
+	s.v, s.set = v, true
+	return nil
+}
+
+// get returns the seed, nil when the flag was not given.
+func (s *seedValue) get() *uint64 {
+	if !s.set {
+		return nil
+	}
+	v := s.v
+	return &v
 }

@@ -76,6 +76,9 @@ type Catalog struct {
 	Header []string
 	// Sources holds the sources in file order.
 	Sources []Source
+	// Warnings lists what was read but looks like a mistake, such as a comment line
+	// with as many fields as the header; they do not stop the catalog being read.
+	Warnings []Problem
 }
 
 // ReadFile reads the catalog in the named file; see [Read].

@@ -8,7 +8,12 @@
 // byte-order mark is skipped, lines may end in LF or CRLF, blank lines and
 // rows of blank fields are ignored, and lines whose first non-blank character
 // is '#' are comments wherever they stand (before or after the header); a
-// '#' later in a line is text. Fields may be quoted with double quotes
+// '#' later in a line is text. A comment is a whole line: a source whose name
+// starts with '#' must quote it when the name is the first field ("#m9"), and
+// a comment line with the header's number of fields is kept as a comment but
+// reported in [Catalog.Warnings]. The separator is the comma: a header that
+// is one field holding tabs or semicolons, and a row of units under the
+// header, are refused with a hint. Fields may be quoted with double quotes
 // ("" inside a quoted field is one quote); a quoted field ends on its own line.
 // Column names are matched without regard to case, and spaces around names
 // and values are trimmed. Every column is optional except the required ones

@@ -7,7 +7,12 @@ naming the columns.
 
   - Text is UTF-8 (a byte-order mark is fine); lines end in LF or CRLF.
   - Lines starting with # (after any spaces) are comments, before or after
-    the header. Blank lines, and rows whose fields are all blank, are skipped.
+    the header; a comment is always a whole line. A source whose name starts
+    with # needs the name quoted when it is the first field ("#m9"); a comment
+    with as many fields as the header is kept as a comment, with a warning.
+    Blank lines, and rows whose fields are all blank, are skipped.
+  - Fields are separated by commas, not tabs or semicolons. Units are fixed
+    by the format (below): no row of units under the header.
   - Column names are case-insensitive; spaces around names and values are
     ignored. Columns may come in any order. "_error" may be written for "_err".
   - A field may be put in double quotes (write "" for a quote inside it),

@@ -8,6 +8,8 @@ import (
 	"math"
 	"strings"
 	"unicode/utf8"
+
+	"github.com/mirabilis-astro/mirabilis/internal/spelling"
 )
 
 // column is a canonical catalog column.
@@ -133,7 +135,10 @@ func Read(r io.Reader, name string) (*Catalog, error) {
 	if rd.ps.count() > 0 {
 		return nil, &rd.ps.err
 	}
-	return &Catalog{Path: name, Header: rd.h.names, Sources: rd.sources}, nil
+	for i := range rd.warnings {
+		rd.warnings[i].File = name
+	}
+	return &Catalog{Path: name, Header: rd.h.names, Sources: rd.sources, Warnings: rd.warnings}, nil
 }
 
 // reader holds the state of one Read.
@@ -145,6 +150,8 @@ type reader struct {
 
 	lastComment     string // text of the last comment before the header
 	lastCommentLine int
+	rows            int // data rows seen
+	warnings        []Problem
 
 	// The row being read.
 	fields  []string
@@ -160,9 +167,13 @@ func (rd *reader) line(line string, lineNo int) bool {
 		return true
 	}
 	if strings.HasPrefix(trimmed, "#") {
-		// Comments are skipped unread, whatever their encoding.
+		// Comments are skipped unread, whatever their encoding; one that would make a row
+		// of the header's width may be a source whose name starts with '#'.
 		if rd.h == nil {
 			rd.lastComment, rd.lastCommentLine = trimmed, lineNo
+		} else if fields, bad, _, _ := splitFields(strings.TrimPrefix(trimmed, "#")); bad == 0 && len(fields) == len(rd.h.names) && len(fields) > 1 {
+			rd.warnings = append(rd.warnings, Problem{Line: lineNo, Reason: fmt.Sprintf(
+				"line skipped as a comment, though it has the header's %d fields; if it is a source whose name starts with '#', quote the name (\"#...\")", len(fields))})
 		}
 		return true
 	}
@@ -202,6 +213,15 @@ func (rd *reader) header(fields []string, lineNo int) {
 	h := &header{line: lineNo, names: fields}
 	for c := range h.index {
 		h.index[c] = -1
+	}
+	if len(fields) == 1 {
+		for _, sep := range []struct{ char, name string }{{"\t", "tabs"}, {";", "semicolons"}, {"|", "vertical bars"}} {
+			if strings.Count(fields[0], sep.char) > 0 {
+				rd.ps.add(Problem{Line: lineNo, Column: 1, Value: fields[0], Reason: fmt.Sprintf(
+					"the header is one field holding %s: the file seems to be separated by %s, and a catalog is separated by commas (CSV); save it as comma-separated values", sep.name, sep.name)})
+				return
+			}
+		}
 	}
 	// Problems of header fields have the header text as their value; the
 	// list of known columns is given once.
@@ -303,42 +323,51 @@ func commentIsHeader(comment string) bool {
 	return name
 }
 
-// suggestColumn returns the canonical column nearest to an unknown name, or
-// "" if none is close: at most two edits away, and fewer edits than half the
-// name's length (so that short names do not match everything).
-func suggestColumn(name string) string {
-	n := strings.ToLower(name)
-	if len(n) > 16 {
-		return "" // more than two edits from every column name
-	}
-	best, bestDist := "", 3
-	for _, cn := range columnNames {
-		if d := editDistance(n, cn); d < bestDist && 2*d < len(n) {
-			best, bestDist = cn, d
-		}
-	}
-	return best
+// unitWords are the units and unit-like words a row of units under a header may hold,
+// lower case, without brackets.
+var unitWords = map[string]bool{
+	"deg": true, "degree": true, "degrees": true, "°": true, "rad": true,
+	"mas": true, "arcsec": true, "mas/yr": true, "mas/a": true, "mas yr-1": true, "mas yr^-1": true, "masyr-1": true,
+	"km/s": true, "km s-1": true, "km s^-1": true, "kms-1": true, "kpc": true, "pc": true,
+	"h": true, "hms": true, "dms": true, "hh:mm:ss": true, "dd:mm:ss": true, "hh:mm:ss.s": true, "dd:mm:ss.s": true,
+	"text": true, "string": true, "str": true, "-": true, "unit": true, "units": true,
 }
 
-// editDistance is the Levenshtein distance between a and b, in bytes.
-func editDistance(a, b string) int {
-	prev := make([]int, len(b)+1)
-	cur := make([]int, len(b)+1)
-	for j := range prev {
-		prev[j] = j
-	}
-	for i := 1; i <= len(a); i++ {
-		cur[0] = i
-		for j := 1; j <= len(b); j++ {
-			cost := 1
-			if a[i-1] == b[j-1] {
-				cost = 0
-			}
-			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+cost)
+// unitsRow reports whether a row looks like a row of units: at least two fields, every
+// field blank or a unit word (brackets allowed), and at least one numeric column holding
+// one.
+func (rd *reader) unitsRow(fields []string) bool {
+	units := 0
+	for i, f := range fields {
+		w := strings.ToLower(strings.Trim(f, "[]() "))
+		if w == "" {
+			continue
 		}
-		prev, cur = cur, prev
+		if !unitWords[w] {
+			return false
+		}
+		if c, ok := lookupColumn(rd.h.names[i]); ok && columnUnits[c] != "" {
+			units++
+		}
 	}
-	return prev[len(b)]
+	return units >= 2
+}
+
+// nonBlank returns the fields that are not blank.
+func nonBlank(fields []string) []string {
+	var out []string
+	for _, f := range fields {
+		if f != "" {
+			out = append(out, f)
+		}
+	}
+	return out
+}
+
+// suggestColumn returns the canonical column nearest to an unknown name, or
+// "" if none is close (see spelling.Nearest).
+func suggestColumn(name string) string {
+	return spelling.Nearest(name, columnNames[:])
 }
 
 // value returns the trimmed field of column c in the current row, or "" if
@@ -376,6 +405,13 @@ func (rd *reader) row(fields []string, lineNo int) {
 			p.Column, p.Value = want+1, fields[want]
 		}
 		rd.ps.add(p)
+		return
+	}
+	rd.rows++
+	if rd.rows == 1 && rd.unitsRow(fields) {
+		rd.ps.add(Problem{Line: lineNo, Reason: fmt.Sprintf(
+			"this row under the header looks like units (%s), not a source: the format fixes every column's unit (see the list of columns); remove the row or start it with '#'",
+			strings.Join(nonBlank(fields), ", "))})
 		return
 	}
 	s := Source{Line: lineNo}

@@ -14,52 +14,13 @@
 package config
 
 import (
-	"fmt"
 	"math"
 	"sort"
+	"strings"
 
+	"github.com/mirabilis-astro/mirabilis/model"
+	"github.com/mirabilis-astro/mirabilis/model/param"
 	"github.com/mirabilis-astro/mirabilis/model/prior"
-)
-
-// Curve names a family of rotation curves.
-type Curve string
-
-// The rotation-curve families. Each rises as a solid body inside
-// Rotation.CoreRadius.
-const (
-	// CurveLinear is Θ(R) = Θ0 + (dΘ/dR)(R − R0).
-	CurveLinear Curve = "linear"
-	// CurvePower is Θ(R) = Θ0 (R/R0)^α.
-	CurvePower Curve = "power"
-	// CurveNodes has free speeds Θ_j at chosen radii, interpolated between
-	// them and flat beyond both ends; Θ0 = Θ(R0) is then derived.
-	CurveNodes Curve = "nodes"
-)
-
-// Interpolation names the interpolant between rotation-curve nodes.
-type Interpolation string
-
-// The interpolants of the nodes curve.
-const (
-	// InterpMonotone is a monotone piecewise cubic (no overshoot between nodes).
-	InterpMonotone Interpolation = "monotone"
-	// InterpLinear joins the nodes by straight lines.
-	InterpLinear Interpolation = "linear"
-)
-
-// ErrorModel names the distribution of the kinematic residuals.
-type ErrorModel string
-
-// The error models of the kinematic terms.
-const (
-	// ErrorsGaussian is N(r; 0, σ).
-	ErrorsGaussian ErrorModel = "gaussian"
-	// ErrorsTolerant is the conservative formulation of Sivia & Skilling
-	// (2006, Data Analysis: A Bayesian Tutorial, §8.3), which lets a few wild
-	// residuals pass without dragging the fit.
-	ErrorsTolerant ErrorModel = "tolerant"
-	// ErrorsStudent is Student's t with Likelihood.StudentDOF degrees of freedom.
-	ErrorsStudent ErrorModel = "student"
 )
 
 // DistancePrior names the prior on each source's distance.
@@ -92,7 +53,7 @@ type Config struct {
 
 	Rotation Rotation
 	// Params are the global parameters with their priors, in the order of
-	// GlobalNames for the chosen curve.
+	// model.GlobalNames for the chosen curve.
 	Params []Param
 	// DerivedPriors are priors on derived quantities (for example Omega_sun),
 	// in the order of DerivedNames.
@@ -112,8 +73,8 @@ type Param struct {
 
 // Rotation describes the rotation curve.
 type Rotation struct {
-	// Curve is the family; default CurveLinear.
-	Curve Curve
+	// Curve is the family; default model.CurveLinear.
+	Curve model.CurveFamily
 	// CoreRadius R_core (kpc): inside it the curve rises as a solid body,
 	// Θ(R) = Θ(R_core) R / R_core. Default 2.
 	CoreRadius float64
@@ -121,9 +82,9 @@ type Rotation struct {
 	// CoreRadius) are the radii of the nodes curve's free speeds Theta_1 …
 	// Theta_N. Empty for the other curves.
 	NodeRadii []float64
-	// Interpolation between nodes; default InterpMonotone. Empty for the
-	// other curves.
-	Interpolation Interpolation
+	// Interpolation between nodes; default model.MonotoneCubic. Empty for
+	// the other curves.
+	Interpolation model.Interpolation
 }
 
 // Arm is one log-periodic spiral arm,
@@ -173,8 +134,8 @@ type Membership struct {
 // Likelihood holds the settings of the per-source likelihood.
 type Likelihood struct {
 	// Errors is the error model of the kinematic residuals; default
-	// ErrorsGaussian.
-	Errors ErrorModel
+	// model.ErrorsGaussian.
+	Errors model.ErrorKind
 	// StudentDOF ν of the Student-t error model (> 0). Default 4.
 	StudentDOF float64
 	// DistancePrior is the prior on distances; default DistanceGalaxy.
@@ -246,95 +207,33 @@ type Moves struct {
 	Walk float64
 }
 
-// Names of the global parameters, as used in params files, chains and summaries.
-const (
-	NameR0         = "R0"        // kpc
-	NameTheta0     = "Theta0"    // km/s
-	NameDThetaDR   = "dTheta_dR" // km/s/kpc, linear curve
-	NameAlpha      = "alpha"     // power curve
-	NameUsun       = "Usun"      // km/s
-	NameVsun       = "Vsun"      // km/s
-	NameWsun       = "Wsun"      // km/s
-	NameUs         = "Us"        // km/s
-	NameVs         = "Vs"        // km/s
-	NameWs         = "Ws"        // km/s
-	NameSigmaVir   = "sigma_vir" // km/s
-	NameWidthSlope = "width_slope"
-)
-
-// Names of derived quantities that may carry a prior.
-const (
-	NameOmegaSun      = "Omega_sun"        // km/s/kpc, (Theta0 + Vsun)/R0
-	NameThetaOverR0   = "Theta0_over_R0"   // km/s/kpc
-	NameThetaPlusVsun = "Theta0_plus_Vsun" // km/s
-	NameOortA         = "Oort_A"           // km/s/kpc
-	NameOortB         = "Oort_B"           // km/s/kpc
-)
-
-// Suffixes of the per-arm parameter names NAME_suffix.
-const (
-	SuffixRref   = "_Rref"
-	SuffixPitch  = "_pitch"
-	SuffixPitch2 = "_pitch2"
-	SuffixKink   = "_kink"
-	SuffixWidth  = "_width"
-	SuffixRsun   = "_Rsun"
-)
-
-// FieldFraction is the name of the field's membership fraction; an arm's is
-// "f_" + its name.
-const FieldFraction = "f_field"
-
-// NodeName returns the name of the j-th speed of the nodes curve, counted
-// from 1: "Theta_1", "Theta_2" …
-func NodeName(j int) string { return fmt.Sprintf("Theta_%d", j) }
-
-// GlobalNames returns the names of the global parameters for a curve with
-// nodes rotation-curve nodes (ignored unless curve is CurveNodes), in the
-// order used throughout: R0, the curve's parameters, Usun, Vsun, Wsun, Us, Vs,
-// Ws, sigma_vir, width_slope.
-func GlobalNames(curve Curve, nodes int) []string {
-	names := []string{NameR0}
-	switch curve {
-	case CurveLinear:
-		names = append(names, NameTheta0, NameDThetaDR)
-	case CurvePower:
-		names = append(names, NameTheta0, NameAlpha)
-	case CurveNodes:
-		for j := 1; j <= nodes; j++ {
-			names = append(names, NodeName(j))
-		}
-	}
-	return append(names, NameUsun, NameVsun, NameWsun, NameUs, NameVs, NameWs, NameSigmaVir, NameWidthSlope)
-}
-
 // DefaultPrior returns the prior a global parameter gets when the file gives
 // none. The defaults are broad: they bound what is physically plausible for
 // the Milky Way and its star-forming regions rather than encode a measurement.
 func DefaultPrior(name string) prior.Prior {
 	switch name {
-	case NameR0:
+	case param.R0:
 		return prior.Uniform{Min: 6, Max: 11}
-	case NameTheta0:
+	case param.Theta0:
 		return prior.Uniform{Min: 150, Max: 320}
-	case NameDThetaDR:
+	case param.DThetaDR:
 		return prior.Uniform{Min: -10, Max: 10}
-	case NameAlpha:
+	case param.Alpha:
 		return prior.Uniform{Min: -0.5, Max: 0.5}
-	case NameUsun:
+	case param.Usun:
 		return prior.Uniform{Min: -10, Max: 30}
-	case NameVsun:
+	case param.Vsun:
 		return prior.Uniform{Min: -20, Max: 40}
-	case NameWsun:
+	case param.Wsun:
 		return prior.Uniform{Min: -5, Max: 20}
-	case NameUs, NameVs, NameWs:
+	case param.Us, param.Vs, param.Ws:
 		return prior.Uniform{Min: -30, Max: 30}
-	case NameSigmaVir:
+	case param.SigmaVir:
 		return prior.Uniform{Min: 0, Max: 40}
-	case NameWidthSlope:
+	case param.WidthSlope:
 		return prior.Fixed{Value: 0}
 	}
-	if IsNodeName(name) {
+	if param.IsNodeName(name) {
 		return prior.Uniform{Min: 100, Max: 350}
 	}
 	return nil
@@ -344,14 +243,14 @@ func DefaultPrior(name string) prior.Prior {
 // none: loguniform(0.05, 1.5).
 func DefaultWidth() prior.Prior { return prior.LogUniform{Min: 0.05, Max: 1.5} }
 
-// Default values of the settings, documented in HelpText. Those of the model
-// (core and inner radii, bar, softening, field scale, concentration, distance
-// range, tolerance, stretch scale) are fixed by the model specification
+// Default values of the settings, documented in HelpText (the core radius's is
+// model.DefaultCoreRadius). Those of the model (inner radius, bar, softening,
+// field scale, concentration, distance range, tolerance, stretch scale) are
+// fixed by the model specification
 // (MODEL.md §3–7); ν = 4 for the Student-t errors is a common choice for
 // robust fits (Lange, Little & Taylor 1989, JASA 84, 881; from memory); the
 // sampler's bookkeeping (max steps, seed, checkpoints) is this package's choice.
 const (
-	DefaultCoreRadius      = 2.0  // kpc
 	DefaultFieldScale      = 3.0  // kpc
 	DefaultConcentration   = 1.0  // symmetric Dirichlet α
 	DefaultArmEndSoftening = 3.0  // deg
@@ -368,15 +267,6 @@ const (
 	DefaultStretchScale    = 2.0
 	MinDefaultWalkers      = 32
 )
-
-// IsNodeName reports whether name is the name of a nodes-curve speed, "Theta_j" with
-// j ≥ 1 written without leading zeros.
-func IsNodeName(name string) bool {
-	var j int
-	var rest string
-	n, _ := fmt.Sscanf(name, "Theta_%d%s", &j, &rest)
-	return n == 1 && j >= 1 && name == NodeName(j)
-}
 
 // ParamNames returns the names of all parameters in the model's order: the
 // globals (GlobalNames), then for each arm NAME_Rref, NAME_pitch, for a kinked
@@ -452,24 +342,33 @@ func (c *Config) params() []Param {
 	return out
 }
 
-// armParams lists an arm's parameters: Rref, pitch, [pitch2, kink], width.
+// armParams lists an arm's parameters in the order of param.ArmNames: Rref,
+// pitch, [pitch2, kink], width.
 func armParams(a Arm) []Param {
-	ps := []Param{{a.Name + SuffixRref, a.Radius}, {a.Name + SuffixPitch, a.Pitch}}
-	if a.Kinked() {
-		ps = append(ps, Param{a.Name + SuffixPitch2, a.Pitch2}, Param{a.Name + SuffixKink, a.Kink})
+	priors := map[string]prior.Prior{
+		param.SuffixRref: a.Radius, param.SuffixPitch: a.Pitch, param.SuffixPitch2: a.Pitch2,
+		param.SuffixKink: a.Kink, param.SuffixWidth: a.Width,
 	}
-	return append(ps, Param{a.Name + SuffixWidth, a.Width})
+	names := param.ArmNames(a.Name, a.Kinked())
+	ps := make([]Param, len(names))
+	for i, n := range names {
+		ps[i] = Param{n, priors[strings.TrimPrefix(n, a.Name)]}
+	}
+	return ps
+}
+
+// armNames returns the names of the arms in order.
+func (c *Config) armNames() []string {
+	names := make([]string, len(c.Arms))
+	for i, a := range c.Arms {
+		names[i] = a.Name
+	}
+	return names
 }
 
 // FractionNames returns the names of the membership fractions: f_field, then
 // f_NAME for each arm in order.
-func (c *Config) FractionNames() []string {
-	names := []string{FieldFraction}
-	for _, a := range c.Arms {
-		names = append(names, "f_"+a.Name)
-	}
-	return names
-}
+func (c *Config) FractionNames() []string { return param.FractionNames(c.armNames()) }
 
 // Fractions returns the symmetric Dirichlet prior of the fractions named by
 // FractionNames; the sampler works with its Dim unconstrained reals (see
@@ -507,16 +406,10 @@ func DefaultWalkers(dim int) int {
 
 // DerivedNames returns the names of the derived quantities that may carry a
 // prior: Omega_sun, Theta0_over_R0, Theta0_plus_Vsun, Oort_A, Oort_B, for the
-// nodes curve Theta0 (which is then derived), and NAME_Rsun for each arm.
+// nodes curve Theta0 (which is then derived), and NAME_Rsun for each arm
+// (param.DerivedNames).
 func (c *Config) DerivedNames() []string {
-	names := []string{NameOmegaSun, NameThetaOverR0, NameThetaPlusVsun, NameOortA, NameOortB}
-	if c.Rotation.Curve == CurveNodes {
-		names = append(names, NameTheta0)
-	}
-	for _, a := range c.Arms {
-		names = append(names, a.Name+SuffixRsun)
-	}
-	return names
+	return param.DerivedNames(c.Rotation.Curve == model.CurveNodes, c.armNames())
 }
 
 // sortedKeys returns the keys of m in order.

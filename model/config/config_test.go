@@ -9,6 +9,8 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/mirabilis-astro/mirabilis/model"
+	"github.com/mirabilis-astro/mirabilis/model/param"
 	"github.com/mirabilis-astro/mirabilis/model/prior"
 )
 
@@ -50,7 +52,7 @@ func TestGoodConfigsLoad(t *testing.T) {
 		}
 	}
 	demo := load(t, "demo.toml")
-	if demo.Name != "demo" || len(demo.Arms) != 4 || demo.Rotation.Curve != CurveLinear {
+	if demo.Name != "demo" || len(demo.Arms) != 4 || demo.Rotation.Curve != model.CurveLinear {
 		t.Fatalf("demo: name %q, %d arms, curve %q", demo.Name, len(demo.Arms), demo.Rotation.Curve)
 	}
 	corvid := demo.Arms[0]
@@ -63,7 +65,7 @@ func TestGoodConfigsLoad(t *testing.T) {
 	if demo.Arms[3].RefAzimuth != 20 || demo.Arms[3].AzimuthRange[1] != 400 {
 		t.Errorf("demo: Halcyon = %+v", demo.Arms[3])
 	}
-	if len(demo.DerivedPriors) != 1 || demo.DerivedPriors[0] != (Param{NameOmegaSun, prior.Normal{Mu: 30.3, Sigma: 1}}) {
+	if len(demo.DerivedPriors) != 1 || demo.DerivedPriors[0] != (Param{param.OmegaSun, prior.Normal{Mu: 29.65, Sigma: 1}}) {
 		t.Errorf("demo: derived priors %v", demo.DerivedPriors)
 	}
 	s := demo.Sampler
@@ -75,7 +77,7 @@ func TestGoodConfigsLoad(t *testing.T) {
 	if power.Sampler.Moves != (Moves{Stretch: 0.7, DiffEvolution: 0.3}) || power.Sampler.Seed != 20240611 {
 		t.Errorf("power: sampler %+v", power.Sampler)
 	}
-	if power.Likelihood.Errors != ErrorsTolerant || power.Membership.Concentration != 0.5 {
+	if power.Likelihood.Errors != model.ErrorsTolerant || power.Membership.Concentration != 0.5 {
 		t.Errorf("power: likelihood %+v, membership %+v", power.Likelihood, power.Membership)
 	}
 	if p, _ := power.Param("Halcyon_2_pitch"); p != (prior.Fixed{Value: 11.5}) {
@@ -83,7 +85,7 @@ func TestGoodConfigsLoad(t *testing.T) {
 	}
 
 	nodes := load(t, "nodes.toml")
-	if nodes.Rotation.Interpolation != InterpLinear || len(nodes.Rotation.NodeRadii) != 6 || nodes.Likelihood.StudentDOF != 6 || !nodes.Likelihood.ExcludeInner {
+	if nodes.Rotation.Interpolation != model.LinearInterp || len(nodes.Rotation.NodeRadii) != 6 || nodes.Likelihood.StudentDOF != 6 || !nodes.Likelihood.ExcludeInner {
 		t.Errorf("nodes: rotation %+v, likelihood %+v", nodes.Rotation, nodes.Likelihood)
 	}
 	var derived []string
@@ -138,14 +140,14 @@ func TestHelpMentionsEverySetting(t *testing.T) {
 // §7 stretch scale) and the documented default priors.
 func TestDefaults(t *testing.T) {
 	c := load(t, "minimal.toml")
-	if c.Rotation.Curve != CurveLinear || c.Rotation.CoreRadius != 2 || c.Rotation.NodeRadii != nil || c.Rotation.Interpolation != "" {
+	if c.Rotation.Curve != model.CurveLinear || c.Rotation.CoreRadius != 2 || c.Rotation.NodeRadii != nil || c.Rotation.Interpolation != "" {
 		t.Errorf("rotation defaults %+v", c.Rotation)
 	}
 	if c.Membership != (Membership{FieldScale: 3, Concentration: 1, ArmEndSoftening: 3}) {
 		t.Errorf("membership defaults %+v", c.Membership)
 	}
 	l := c.Likelihood
-	if l.Errors != ErrorsGaussian || l.DistancePrior != DistanceGalaxy || l.DistanceRange != [2]float64{0.05, 30} ||
+	if l.Errors != model.ErrorsGaussian || l.DistancePrior != DistanceGalaxy || l.DistanceRange != [2]float64{0.05, 30} ||
 		l.Tolerance != 1e-4 || l.InnerRadius != 4 || l.ExcludeInner || l.BarDispersion != 40 || l.BarSoftening != 0.5 ||
 		l.StudentDOF != 4 || l.PilotStart != nil || l.PilotSpread != nil {
 		t.Errorf("likelihood defaults %+v", l)
@@ -203,7 +205,7 @@ func TestParamNames(t *testing.T) {
 		t.Errorf("demo ParamNames\n got %v\nwant %v", got, want)
 	}
 	priors := demo.Priors()
-	if len(priors) != len(want) || priors[0] != (prior.Normal{Mu: 8.2, Sigma: 0.4}) || priors[len(priors)-1] != DefaultWidth() {
+	if len(priors) != len(want) || priors[0] != (prior.Normal{Mu: 8.25, Sigma: 0.4}) || priors[len(priors)-1] != DefaultWidth() {
 		t.Errorf("demo Priors %v", priors)
 	}
 	if got, want := demo.FractionNames(), []string{"f_field", "f_Corvid", "f_Lantern", "f_Tamarisk", "f_Halcyon"}; !reflect.DeepEqual(got, want) {
@@ -249,7 +251,7 @@ func TestStartAndSpreads(t *testing.T) {
 		index[n] = i
 	}
 	for name, want := range map[string]float64{
-		"R0":           8.2,           // pilot_start
+		"R0":           8.25,          // pilot_start
 		"Theta0":       235,           // midpoint of uniform(150, 320)
 		"Usun":         10,            // median of normal(10, 5)
 		"width_slope":  0,             // fixed
@@ -263,7 +265,7 @@ func TestStartAndSpreads(t *testing.T) {
 	for name, want := range map[string]float64{
 		"R0":          0.3,               // pilot_spread
 		"Theta0":      8,                 // pilot_spread
-		"Vs":          10,                // sigma of normal(-5, 10)
+		"Vs":          10,                // sigma of normal(-3, 10)
 		"sigma_vir":   8.660254037844386, // 30/√12
 		"width_slope": 0,                 // fixed
 	} {
@@ -604,7 +606,9 @@ func TestDecodeErrors(t *testing.T) {
 		msg  string
 	}{
 		{"catalog = \"s.csv\"\nseeds = 3\n", 2, "seeds", "unknown setting; known at the top level: catalog, output, rotation"},
-		{"catalog = \"s.csv\"\n[sampler]\nmoves = { stretch = 1, de_move = 0.5 }\n", 3, "sampler.moves.de_move", "did you mean differential_evolution?"},
+		{"catalog = \"s.csv\"\n[sampler]\nmoves = { stretch = 1, diferential_evolution = 0.5 }\n", 3, "sampler.moves.diferential_evolution", "did you mean differential_evolution?"},
+		// Only the method's published name is known; other spellings get the list.
+		{"catalog = \"s.csv\"\n[sampler]\nmoves = { stretch = 1, de_move = 0.5 }\n", 3, "sampler.moves.de_move", "unknown setting; known in [sampler.moves]: stretch, differential_evolution, walk"},
 		{"catalog = \"s.csv\"\n[likelihood]\npilot_spread = { R0 = \"wide\" }\n", 3, "likelihood.pilot_spread.R0", "expected a number, found a TOML string"},
 		{"catalog = \"s.csv\"\n[likelihood]\ndistance_range = 30\n", 3, "likelihood.distance_range", "expected a list of numbers, found a TOML integer"},
 		{"catalog = \"s.csv\"\n[likelihood]\nexclude_inner = \"yes\"\n", 3, "likelihood.exclude_inner", "expected true or false, found a TOML string"},

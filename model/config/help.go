@@ -65,7 +65,10 @@ TOP LEVEL
   (km/s/kpc, (Theta0 + Vsun)/R0), Theta0_over_R0 (km/s/kpc),
   Theta0_plus_Vsun (km/s), Oort_A and Oort_B (km/s/kpc), NAME_Rsun (kpc,
   where arm NAME crosses the Sun–centre line) and, for the nodes curve,
-  Theta0 (km/s).
+  Theta0 (km/s). Such a prior multiplies the priors of the parameters the
+  quantity depends on: with Omega_sun = normal(29.65, 0.4), the effective
+  prior of R0, Theta0 and Vsun is no longer the one written for each under
+  [params], and summaries list the stated priors as stated, not effective.
 
 [[arm]]  (one table per arm; none is allowed)
   name              letters, digits and underscores, starting with a letter;
@@ -110,7 +113,7 @@ TOP LEVEL
   bar_dispersion    σ_bar, km/s: extra scatter inside R_inner. Default 40.
   bar_softening     s_bar, kpc: width of that switch. Default 0.5.
   pilot_start       starting values by parameter name, for example
-                    { R0 = 8.2 }: the first pilot parameter set and the
+                    { R0 = 8.25 }: the first pilot parameter set and the
                     optimiser's start. Default: each prior's median.
   pilot_spread      expected posterior spreads (standard deviations) by
                     parameter name, for the pilot draws around the best
@@ -154,7 +157,7 @@ core_radius = 2.0                # kpc
 # interpolation = "monotone"           # nodes curve only
 
 [params]
-R0 = "normal(8.2, 0.4)"          # kpc
+R0 = "normal(8.25, 0.4)"         # kpc
 Theta0 = "uniform(150, 320)"     # km/s
 dTheta_dR = "normal(0, 5)"       # km/s/kpc
 # alpha = "normal(0, 0.2)"       # power curve
@@ -163,13 +166,13 @@ Usun = "normal(10, 5)"           # km/s
 Vsun = "normal(12, 10)"          # km/s
 Wsun = "normal(7, 3)"            # km/s
 Us = "normal(0, 10)"             # km/s
-Vs = "normal(-5, 10)"            # km/s
+Vs = "normal(-3, 10)"            # km/s
 Ws = "normal(0, 10)"             # km/s
 sigma_vir = "uniform(0, 30)"     # km/s
 width_slope = 0                  # a number fixes the parameter
 
 [derived_priors]
-Omega_sun = "normal(30.3, 1.0)"  # km/s/kpc, (Theta0 + Vsun)/R0
+Omega_sun = "normal(29.65, 1.0)" # km/s/kpc, (Theta0 + Vsun)/R0
 
 [[arm]]
 name = "Corvid"
@@ -216,7 +219,7 @@ inner_radius = 4.0               # kpc
 exclude_inner = false
 bar_dispersion = 40.0            # km/s
 bar_softening = 0.5              # kpc
-pilot_start = { R0 = 8.2 }
+pilot_start = { R0 = 8.25 }
 pilot_spread = { R0 = 0.3, Theta0 = 8.0 }
 
 [sampler]

@@ -9,10 +9,14 @@ import (
 	"path/filepath"
 	"reflect"
 	"regexp"
+	"sort"
 	"strings"
 
+	"github.com/mirabilis-astro/mirabilis/internal/spelling"
 	toml "github.com/pelletier/go-toml/v2"
 
+	"github.com/mirabilis-astro/mirabilis/model"
+	"github.com/mirabilis-astro/mirabilis/model/param"
 	"github.com/mirabilis-astro/mirabilis/model/prior"
 )
 
@@ -106,8 +110,17 @@ func Parse(data []byte, name, baseDir string) (*Config, error) {
 	var doc fileConfig
 	dec := toml.NewDecoder(bytes.NewReader(data))
 	dec.DisallowUnknownFields()
+	var unknown Errors
 	if err := dec.Decode(&doc); err != nil {
-		return nil, decodeProblems(err, data, name)
+		var strict *toml.StrictMissingError
+		if !errors.As(err, &strict) {
+			return nil, decodeProblems(err, data, name)
+		}
+		// Only unknown keys: the rest of the document is decoded, and checked below, so
+		// that every problem is listed at once.
+		if !errors.As(decodeProblems(err, data, name), &unknown) {
+			return nil, err
+		}
 	}
 	lines := locateKeys(data)
 
@@ -123,7 +136,15 @@ func Parse(data []byte, name, baseDir string) (*Config, error) {
 	var ps problems
 	doc.fill(c, &ps)
 	c.validate(&ps)
-	if err := ps.result(name, lines); err != nil {
+	err = ps.result(name, lines)
+	if len(unknown) > 0 {
+		var found Errors
+		errors.As(err, &found)
+		all := append(unknown, found...)
+		sort.SliceStable(all, func(i, j int) bool { return all[i].Line < all[j].Line })
+		return nil, all
+	}
+	if err != nil {
 		return nil, err
 	}
 	return c, nil
@@ -170,21 +191,21 @@ func (d *fileConfig) fill(c *Config, ps *problems) {
 	if r == nil {
 		r = &fileRotation{}
 	}
-	c.Rotation.Curve = CurveLinear
+	c.Rotation.Curve = model.CurveLinear
 	if len(r.NodeRadii) > 0 {
-		c.Rotation.Curve = CurveNodes // the likely intent, should the name be wrong
+		c.Rotation.Curve = model.CurveNodes // the likely intent, should the name be wrong
 	}
 	if r.Curve != nil {
-		if v, ok := choose(ps, "rotation.curve", *r.Curve, CurveLinear, CurvePower, CurveNodes); ok {
+		if v, ok := choose(ps, "rotation.curve", *r.Curve, model.CurveLinear, model.CurvePower, model.CurveNodes); ok {
 			c.Rotation.Curve = v
 		}
 	}
-	c.Rotation.CoreRadius = orFloat(r.CoreRadius, DefaultCoreRadius)
-	if c.Rotation.Curve == CurveNodes {
+	c.Rotation.CoreRadius = orFloat(r.CoreRadius, model.DefaultCoreRadius)
+	if c.Rotation.Curve == model.CurveNodes {
 		c.Rotation.NodeRadii = append([]float64(nil), r.NodeRadii...)
-		c.Rotation.Interpolation = InterpMonotone
+		c.Rotation.Interpolation = model.MonotoneCubic
 		if r.Interpolation != nil {
-			if v, ok := choose(ps, "rotation.interpolation", *r.Interpolation, InterpMonotone, InterpLinear); ok {
+			if v, ok := choose(ps, "rotation.interpolation", *r.Interpolation, model.MonotoneCubic, model.LinearInterp); ok {
 				c.Rotation.Interpolation = v
 			}
 		}
@@ -215,7 +236,7 @@ func (d *fileConfig) fill(c *Config, ps *problems) {
 		l = &fileLikelihood{}
 	}
 	c.Likelihood = Likelihood{
-		Errors:        ErrorsGaussian,
+		Errors:        model.ErrorsGaussian,
 		StudentDOF:    orFloat(l.StudentDOF, DefaultStudentDOF),
 		DistancePrior: DistanceGalaxy,
 		DistanceRange: [2]float64{DefaultDistanceMin, DefaultDistanceMax},
@@ -227,7 +248,7 @@ func (d *fileConfig) fill(c *Config, ps *problems) {
 		PilotSpread:   copyMap(l.PilotSpread),
 	}
 	if l.ErrorModel != nil {
-		if v, ok := choose(ps, "likelihood.error_model", *l.ErrorModel, ErrorsGaussian, ErrorsTolerant, ErrorsStudent); ok {
+		if v, ok := choose(ps, "likelihood.error_model", *l.ErrorModel, model.ErrorsGaussian, model.ErrorsTolerant, model.ErrorsStudent); ok {
 			c.Likelihood.Errors = v
 		}
 	}
@@ -280,7 +301,7 @@ func (d *fileConfig) fill(c *Config, ps *problems) {
 
 // fillParams reads the priors of the global parameters and derived quantities.
 func (d *fileConfig) fillParams(c *Config, ps *problems) {
-	names := GlobalNames(c.Rotation.Curve, len(c.Rotation.NodeRadii))
+	names := model.GlobalNames(c.Rotation.Curve, len(c.Rotation.NodeRadii))
 	given := map[string]bool{}
 	for _, key := range sortedKeys(d.Params) {
 		if !contains(names, key) {
@@ -311,7 +332,7 @@ func (d *fileConfig) fillParams(c *Config, ps *problems) {
 	}
 	for _, key := range sortedKeys(d.DerivedPriors) {
 		if !contains(allowed, key) {
-			msg := fmt.Sprintf("not a derived quantity that can take a prior; known: %s", strings.Join(allowed, ", "))
+			msg := fmt.Sprintf("not a derived quantity that can take a prior%s; known: %s", didYouMean(key, allowed), strings.Join(allowed, ", "))
 			if contains(names, key) {
 				msg = fmt.Sprintf("%s is a parameter: give its prior under [params]", key)
 			}
@@ -322,29 +343,29 @@ func (d *fileConfig) fillParams(c *Config, ps *problems) {
 
 // unknownParam explains why a key under [params] is not a parameter.
 func (c *Config) unknownParam(key string, names []string) string {
-	if c.Rotation.Curve == CurveNodes {
-		if key == NameTheta0 {
+	if c.Rotation.Curve == model.CurveNodes {
+		if key == param.Theta0 {
 			return "with curve = \"nodes\", Theta0 is derived: give its prior under [derived_priors]"
 		}
-		if IsNodeName(key) {
+		if param.IsNodeName(key) {
 			n := len(c.Rotation.NodeRadii)
 			return fmt.Sprintf("the nodes curve has %d node radii, so speeds Theta_1 … Theta_%d", n, n)
 		}
 	}
-	for _, curve := range []Curve{CurveLinear, CurvePower, CurveNodes} {
-		if curve != c.Rotation.Curve && contains(GlobalNames(curve, 100), key) {
+	for _, curve := range []model.CurveFamily{model.CurveLinear, model.CurvePower, model.CurveNodes} {
+		if curve != c.Rotation.Curve && contains(model.GlobalNames(curve, 100), key) {
 			return fmt.Sprintf("%s belongs to another rotation curve than %q", key, c.Rotation.Curve)
 		}
+	}
+	if info, ok := param.Lookup(key, c.armNames()); ok && info.Kind == param.Fraction {
+		return "the membership fractions have a Dirichlet prior, set by membership.concentration"
 	}
 	for _, a := range c.Arms {
 		if strings.HasPrefix(key, a.Name+"_") {
 			return "arm parameters are set in the arm's [[arm]] table (radius, pitch, pitch2, kink, width)"
 		}
 	}
-	if strings.HasPrefix(key, "f_") {
-		return "the membership fractions have a Dirichlet prior, set by membership.concentration"
-	}
-	return fmt.Sprintf("unknown parameter; the %s curve has %s", c.Rotation.Curve, strings.Join(names, ", "))
+	return fmt.Sprintf("unknown parameter%s; the %s curve has %s", didYouMean(key, names), c.Rotation.Curve, strings.Join(names, ", "))
 }
 
 // fillArms reads the [[arm]] tables.
@@ -438,7 +459,11 @@ func choose[T ~string](ps *problems, key, s string, allowed ...T) (T, bool) {
 	for i, a := range allowed {
 		quoted[i] = fmt.Sprintf("%q", string(a))
 	}
-	ps.addf(key, "%q is not one of %s", s, strings.Join(quoted, ", "))
+	known := make([]string, len(allowed))
+	for i, a := range allowed {
+		known[i] = string(a)
+	}
+	ps.addf(key, "%q is not one of %s%s", s, strings.Join(quoted, ", "), didYouMean(s, known))
 	var zero T
 	return zero, false
 }
@@ -509,7 +534,7 @@ func decodeProblems(err error, data []byte, file string) error {
 			e := &strict.Errors[i]
 			line, col := e.Position()
 			key := qualifyKey(lines, e.Key(), line, col)
-			ps.list = append(ps.list, &FieldError{Line: line, Key: key, Msg: "unknown setting" + suggest(key, e.Key()), Err: e})
+			ps.list = append(ps.list, &FieldError{Line: line, Key: key, Msg: "unknown setting" + suggest(key), Err: e})
 		}
 		return ps.result(file, nil)
 	case errors.As(err, &de):
@@ -560,25 +585,39 @@ func hasPrefix(key toml.Key, parts []string) bool {
 
 // suggest names the setting an unknown key was probably meant to be, or
 // lists the settings of its table.
-func suggest(key string, parts toml.Key) string {
-	renamed := map[string]string{
-		"errors":  "error_model",
-		"de_move": "differential_evolution",
-		"de":      "differential_evolution",
+func suggest(key string) string {
+	path := strings.Split(key, ".")
+	for i, p := range path {
+		if j := strings.IndexByte(p, '['); j >= 0 {
+			path[i] = p[:j] // arm[2] → arm
+		}
 	}
-	last := key[strings.LastIndexByte(key, '.')+1:]
-	if s, ok := renamed[last]; ok {
-		return fmt.Sprintf(" (did you mean %s?)", s)
+	last, table := path[len(path)-1], path[:len(path)-1]
+	if last == "errors" {
+		return " (did you mean error_model?)"
 	}
-	if known := knownKeys(parts[:len(parts)-1]); len(known) > 0 {
+	known := knownKeys(table)
+	if s := didYouMean(last, known); s != "" {
+		return s
+	}
+	if len(known) > 0 {
 		where := "at the top level"
-		switch table := strings.Join(parts[:len(parts)-1], "."); {
-		case table == "arm":
+		switch t := strings.Join(table, "."); {
+		case t == "arm":
 			where = "in [[arm]]"
-		case table != "":
-			where = "in [" + table + "]"
+		case t != "":
+			where = "in [" + t + "]"
 		}
 		return fmt.Sprintf("; known %s: %s", where, strings.Join(known, ", "))
+	}
+	return ""
+}
+
+// didYouMean returns " (did you mean NAME?)" for the known name nearest to word, or "" if
+// none is near.
+func didYouMean(word string, known []string) string {
+	if s := spelling.Nearest(word, known); s != "" && s != word {
+		return fmt.Sprintf(" (did you mean %s?)", s)
 	}
 	return ""
 }

@@ -4,6 +4,8 @@ import (
 	"crypto/sha256"
 	"encoding/hex"
 	"fmt"
+	"github.com/mirabilis-astro/mirabilis/model"
+	"github.com/mirabilis-astro/mirabilis/model/param"
 	"math"
 	"regexp"
 	"strconv"
@@ -31,7 +33,7 @@ func (c *Config) Hash() string {
 // write renders the configuration; for the hash, settings that do not change
 // the chain are left out.
 func (c *Config) write(forHash bool) []byte {
-	var w tomlWriter
+	w := tomlWriter{arms: c.armNames()}
 	if !forHash {
 		w.comment("Resolved configuration %s: every setting written out, every path absolute.", quoteString(c.Name))
 		w.comment("See \"mirabilis help config\" for the meaning of each setting.")
@@ -44,7 +46,7 @@ func (c *Config) write(forHash bool) []byte {
 	w.table("rotation")
 	w.str("curve", string(c.Rotation.Curve), "linear | power | nodes")
 	w.num("core_radius", c.Rotation.CoreRadius, "kpc, solid-body rise inside")
-	if c.Rotation.Curve == CurveNodes {
+	if c.Rotation.Curve == model.CurveNodes {
 		w.list("node_radii", c.Rotation.NodeRadii, "kpc")
 		w.str("interpolation", string(c.Rotation.Interpolation), "monotone | linear")
 	}
@@ -65,13 +67,13 @@ func (c *Config) write(forHash bool) []byte {
 		w.str("name", a.Name, "")
 		w.num("ref_azimuth", a.RefAzimuth, "deg")
 		w.list("azimuth_range", a.AzimuthRange[:], "deg")
-		w.prior("radius", Param{a.Name + SuffixRref, a.Radius})
-		w.prior("pitch", Param{a.Name + SuffixPitch, a.Pitch})
+		w.prior("radius", Param{a.Name + param.SuffixRref, a.Radius})
+		w.prior("pitch", Param{a.Name + param.SuffixPitch, a.Pitch})
 		if a.Kinked() {
-			w.prior("pitch2", Param{a.Name + SuffixPitch2, a.Pitch2})
-			w.prior("kink", Param{a.Name + SuffixKink, a.Kink})
+			w.prior("pitch2", Param{a.Name + param.SuffixPitch2, a.Pitch2})
+			w.prior("kink", Param{a.Name + param.SuffixKink, a.Kink})
 		}
-		w.prior("width", Param{a.Name + SuffixWidth, a.Width})
+		w.prior("width", Param{a.Name + param.SuffixWidth, a.Width})
 	}
 
 	m := c.Membership
@@ -113,7 +115,8 @@ func (c *Config) write(forHash bool) []byte {
 
 // tomlWriter writes the few TOML forms the configuration needs.
 type tomlWriter struct {
-	b strings.Builder
+	b    strings.Builder
+	arms []string // the arms' names, for the units of their parameters
 }
 
 func (w *tomlWriter) comment(format string, args ...any) {
@@ -152,35 +155,12 @@ func (w *tomlWriter) prior(key string, p Param) {
 	if p.Prior == nil {
 		return
 	}
-	note := unitOf(p.Name)
+	note := param.Unit(p.Name, w.arms)
 	if key != p.Name {
 		note = strings.TrimSpace(p.Name + ", " + note)
 		note = strings.TrimSuffix(note, ",")
 	}
 	w.str(key, p.Prior.String(), note)
-}
-
-// unitOf returns the unit of a parameter or derived quantity, "" if none.
-func unitOf(name string) string {
-	switch name {
-	case NameR0:
-		return "kpc"
-	case NameThetaPlusVsun, NameTheta0, NameUsun, NameVsun, NameWsun, NameUs, NameVs, NameWs, NameSigmaVir:
-		return "km/s"
-	case NameDThetaDR, NameOmegaSun, NameThetaOverR0, NameOortA, NameOortB:
-		return "km/s/kpc"
-	case NameWidthSlope:
-		return "kpc/kpc"
-	}
-	switch {
-	case IsNodeName(name):
-		return "km/s"
-	case strings.HasSuffix(name, SuffixRref), strings.HasSuffix(name, SuffixWidth), strings.HasSuffix(name, SuffixRsun):
-		return "kpc"
-	case strings.HasSuffix(name, SuffixPitch), strings.HasSuffix(name, SuffixPitch2), strings.HasSuffix(name, SuffixKink):
-		return "deg"
-	}
-	return ""
 }
 
 func (w *tomlWriter) inline(key string, m map[string]float64, note string) {

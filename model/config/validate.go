@@ -7,6 +7,8 @@ import (
 	"regexp"
 	"strings"
 
+	"github.com/mirabilis-astro/mirabilis/model"
+	"github.com/mirabilis-astro/mirabilis/model/param"
 	"github.com/mirabilis-astro/mirabilis/model/prior"
 )
 
@@ -32,6 +34,7 @@ func (c *Config) validate(ps *problems) {
 	c.validateRotation(ps)
 	c.validateParams(ps)
 	c.validateArms(ps)
+	c.validateNames(ps)
 	c.validateMembership(ps)
 	c.validateLikelihood(ps)
 	c.validateSampler(ps)
@@ -61,12 +64,13 @@ func unwrapPath(err error) error {
 func (c *Config) validateRotation(ps *problems) {
 	r := c.Rotation
 	switch r.Curve {
-	case CurveLinear, CurvePower, CurveNodes:
+	case model.CurveLinear, model.CurvePower, model.CurveNodes:
 	default:
-		ps.addf("rotation.curve", "%q is not one of \"linear\", \"power\", \"nodes\"", r.Curve)
+		ps.addf("rotation.curve", "%q is not one of \"linear\", \"power\", \"nodes\"%s", r.Curve,
+			didYouMean(string(r.Curve), []string{string(model.CurveLinear), string(model.CurvePower), string(model.CurveNodes)}))
 	}
 	positive(ps, "rotation.core_radius", r.CoreRadius, "kpc")
-	if r.Curve != CurveNodes {
+	if r.Curve != model.CurveNodes {
 		if len(r.NodeRadii) > 0 {
 			ps.addf("rotation.node_radii", "applies only to curve = \"nodes\" (the curve is %q)", r.Curve)
 		}
@@ -76,9 +80,10 @@ func (c *Config) validateRotation(ps *problems) {
 		return
 	}
 	switch r.Interpolation {
-	case InterpMonotone, InterpLinear:
+	case model.MonotoneCubic, model.LinearInterp:
 	default:
-		ps.addf("rotation.interpolation", "%q is not one of \"monotone\", \"linear\"", r.Interpolation)
+		ps.addf("rotation.interpolation", "%q is not one of \"monotone\", \"linear\"%s", r.Interpolation,
+			didYouMean(string(r.Interpolation), []string{string(model.MonotoneCubic), string(model.LinearInterp)}))
 	}
 	if len(r.NodeRadii) < 2 {
 		ps.addf("rotation.node_radii", "the nodes curve needs at least two node radii (kpc), got %d", len(r.NodeRadii))
@@ -100,7 +105,7 @@ func (c *Config) validateRotation(ps *problems) {
 }
 
 func (c *Config) validateParams(ps *problems) {
-	names := GlobalNames(c.Rotation.Curve, len(c.Rotation.NodeRadii))
+	names := model.GlobalNames(c.Rotation.Curve, len(c.Rotation.NodeRadii))
 	if len(c.Params) != len(names) {
 		ps.addf("params", "expected the %d parameters %s, got %d", len(names), strings.Join(names, ", "), len(c.Params))
 	}
@@ -114,9 +119,9 @@ func (c *Config) validateParams(ps *problems) {
 			continue
 		}
 		switch {
-		case p.Name == NameR0 || p.Name == NameTheta0:
+		case p.Name == param.R0 || p.Name == param.Theta0:
 			mostly(ps, key, p.Prior, 0, math.Inf(1), "positive")
-		case p.Name == NameSigmaVir || IsNodeName(p.Name):
+		case p.Name == param.SigmaVir || param.IsNodeName(p.Name):
 			mostly(ps, key, p.Prior, 0, math.Inf(1), "non-negative")
 		}
 	}
@@ -205,10 +210,35 @@ func (c *Config) validateArms(ps *problems) {
 	}
 	if parallax {
 		for _, p := range c.Params {
-			if p.Name == NameWidthSlope && p.Prior != nil && !p.Prior.IsFixed() {
-				ps.addf("params."+NameWidthSlope, "with distance_prior = \"parallax\" the arms are not fitted: width_slope must be fixed")
+			if p.Name == param.WidthSlope && p.Prior != nil && !p.Prior.IsFixed() {
+				ps.addf("params."+param.WidthSlope, "with distance_prior = \"parallax\" the arms are not fitted: width_slope must be fixed")
 			}
 		}
+	}
+}
+
+// validateNames checks that every parameter, fraction and derived quantity has a name of
+// its own: arms named "f" and "pitch" would both claim f_pitch.
+func (c *Config) validateNames(ps *problems) {
+	owner := map[string]string{}
+	claim := func(key string, names ...string) {
+		for _, n := range names {
+			if prev, dup := owner[n]; dup && prev != key {
+				if prev == "params" {
+					prev = "a global quantity"
+				}
+				ps.addf(key, "the arm's quantity %s has the name of a quantity of %s: rename the arm", n, prev)
+			}
+			owner[n] = key
+		}
+	}
+	claim("params", model.GlobalNames(c.Rotation.Curve, len(c.Rotation.NodeRadii))...)
+	claim("params", param.FieldFraction)
+	claim("params", param.DerivedNames(c.Rotation.Curve == model.CurveNodes, nil)...)
+	for i, a := range c.Arms {
+		key := fmt.Sprintf("arm[%d].name", i+1)
+		claim(key, param.ArmNames(a.Name, a.Kinked())...)
+		claim(key, param.FractionName(a.Name), a.Name+param.SuffixRsun)
 	}
 }
 
@@ -225,9 +255,10 @@ func (c *Config) validateMembership(ps *problems) {
 func (c *Config) validateLikelihood(ps *problems) {
 	l := c.Likelihood
 	switch l.Errors {
-	case ErrorsGaussian, ErrorsTolerant, ErrorsStudent:
+	case model.ErrorsGaussian, model.ErrorsTolerant, model.ErrorsStudent:
 	default:
-		ps.addf("likelihood.error_model", "%q is not one of \"gaussian\", \"tolerant\", \"student\"", l.Errors)
+		ps.addf("likelihood.error_model", "%q is not one of \"gaussian\", \"tolerant\", \"student\"%s", l.Errors,
+			didYouMean(string(l.Errors), []string{string(model.ErrorsGaussian), string(model.ErrorsTolerant), string(model.ErrorsStudent)}))
 	}
 	positive(ps, "likelihood.student_dof", l.StudentDOF, "")
 	switch l.DistancePrior {
@@ -257,8 +288,8 @@ func (c *Config) validateLikelihood(ps *problems) {
 				return priors[i]
 			}
 		}
-		hint := ""
-		if strings.HasPrefix(name, "f_") {
+		hint := didYouMean(name, names)
+		if info, ok := param.Lookup(name, c.armNames()); ok && info.Kind == param.Fraction {
 			hint = " (the fractions start at the centre of the simplex)"
 		}
 		ps.addf(key, "%s is not a parameter of this model%s", name, hint)

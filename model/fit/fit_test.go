@@ -10,6 +10,7 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
+	"syscall"
 	"testing"
 
 	"github.com/mirabilis-astro/mirabilis/mcmc"
@@ -58,7 +59,11 @@ func setUp(t *testing.T, n int, extra string) (string, *mock.Model) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	data, _, err := m.Render(nil)
+	spec, err := SpecFromConfig(m.Config)
+	if err != nil {
+		t.Fatal(err)
+	}
+	data, _, err := m.Render(spec, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -95,9 +100,15 @@ func TestResumeIsExact(t *testing.T) {
 	path, _ := setUp(t, 30, "\n[sampler]\nwalkers = 40\nsteps = 40\nburn = 10\ncheckpoint_every = 10\nseed = 5\n")
 	dir := filepath.Dir(path)
 	ctx := context.Background()
-	if _, err := Fit(ctx, load(t, path), Options{Out: filepath.Join(dir, "whole"), Threads: 2}); err != nil {
+	// Under a umask that would hide files from the group, as on some clusters, the run
+	// directory's files still come out 0644 and its folders 0755.
+	old := syscall.Umask(0o077)
+	_, err := Fit(ctx, load(t, path), Options{Out: filepath.Join(dir, "whole"), Threads: 2})
+	syscall.Umask(old)
+	if err != nil {
 		t.Fatal(err)
 	}
+	checkModes(t, filepath.Join(dir, "whole"))
 	part := filepath.Join(dir, "part")
 	if _, err := Fit(ctx, load(t, path), Options{Out: part, Steps: 17, Threads: 1}); err != nil {
 		t.Fatal(err)
@@ -149,6 +160,32 @@ func TestResumeIsExact(t *testing.T) {
 	cfg.Membership.FieldScale = 3.5
 	if _, err := Fit(ctx, cfg, Options{Out: part, Steps: 50, Resume: true}); err == nil || !strings.Contains(err.Error(), "configuration differs") {
 		t.Errorf("resume with a changed configuration: err = %v, want a refusal", err)
+	}
+}
+
+// checkModes fails the test for any file in dir that is not 0644 or folder that is not
+// 0755 (the project's rule for run directories, so that collaborators can read results).
+func checkModes(t *testing.T, dir string) {
+	t.Helper()
+	err := filepath.WalkDir(dir, func(path string, d fs.DirEntry, err error) error {
+		if err != nil {
+			return err
+		}
+		info, err := d.Info()
+		if err != nil {
+			return err
+		}
+		want := fs.FileMode(0o644)
+		if d.IsDir() {
+			want = 0o755
+		}
+		if info.Mode().Perm() != want {
+			t.Errorf("%s: mode %v, want %v", path, info.Mode().Perm(), want)
+		}
+		return nil
+	})
+	if err != nil {
+		t.Fatal(err)
 	}
 }
 
@@ -225,7 +262,7 @@ func TestRecovery(t *testing.T) {
 		}
 	}
 	// Membership of the arm sources well clear of the other arms.
-	_, truth, err := m.Draw(nil)
+	_, truth, err := m.Draw(out.Job.Spec, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -11,7 +11,9 @@ import (
 	"io"
 	"math"
 	"math/rand/v2"
+	"strings"
 
+	"gonum.org/v1/gonum/diff/fd"
 	"gonum.org/v1/gonum/mat"
 
 	"github.com/mirabilis-astro/mirabilis/mcmc"
@@ -34,7 +36,7 @@ type Job struct {
 // Prepare checks that the catalog fits the configuration and builds the likelihood and
 // the posterior. The quadratures are not laid out yet (see Pilot).
 func Prepare(cfg *config.Config, cat *catalog.Catalog) (*Job, error) {
-	spec, err := model.SpecFromConfig(cfg)
+	spec, err := SpecFromConfig(cfg)
 	if err != nil {
 		return nil, err
 	}
@@ -46,7 +48,7 @@ func Prepare(cfg *config.Config, cat *catalog.Catalog) (*Job, error) {
 	if err != nil {
 		return nil, err
 	}
-	post, err := model.NewPosterior(cfg, L)
+	post, err := NewPosterior(cfg, L)
 	if err != nil {
 		return nil, err
 	}
@@ -101,10 +103,15 @@ func (j *Job) Spreads() []float64 {
 
 // PilotResult is what the pilot stage found.
 type PilotResult struct {
+	// Names are the sampled coordinates, in the order of MAP, Spread and each pilot.
+	Names []string
 	// MAP is the maximum a posteriori point, in sampled coordinates, and MAPLogDensity the
 	// log posterior there.
 	MAP           []float64
 	MAPLogDensity float64
+	// MAPConverged says whether the search for MAP converged (see mcmc.MAPResult); when
+	// it did not, MAP is only the best point found.
+	MAPConverged bool
 	// Spread is the posterior standard deviation of each sampled coordinate from the
 	// curvature at the MAP (Laplace approximation), or a fallback where that failed.
 	Spread []float64
@@ -146,7 +153,7 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 	}
 	j.logf("quadrature at the starting point: %d nodes per source (median; %d–%d)", st.MedianNodes, st.MinNodes, st.MaxNodes)
 	spreads := j.Spreads()
-	res := &PilotResult{}
+	res := &PilotResult{Names: j.Post.Names()}
 	// Once the context is cancelled every point looks impossible, which ends the search
 	// within its budget at little cost; the cancellation is reported below.
 	logDensity := func(x []float64) float64 {
@@ -161,16 +168,29 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
+		// A search that has not settled continues from where it stopped with four times
+		// the budget, at most three times.
 		budget := 100 * (len(x) + 1) / round
-		found, err := mcmc.FindMAP(logDensity, x, &mcmc.MAPSettings{Scale: mapScales(spreads, x), MaxEvaluations: budget, Restarts: 1})
-		if cerr := ctx.Err(); cerr != nil {
-			return nil, cerr
+		for attempt := 0; ; attempt++ {
+			found, err := mcmc.FindMAP(logDensity, x, &mcmc.MAPSettings{Scale: mapScales(spreads, x), MaxEvaluations: budget, Restarts: 4})
+			if cerr := ctx.Err(); cerr != nil {
+				return nil, cerr
+			}
+			if err != nil {
+				return nil, fmt.Errorf("finding the MAP: %w", err)
+			}
+			x, lp, res.MAPConverged = found.X, found.LogDensity, found.Converged
+			if found.Converged {
+				j.logf("MAP search round %d: log posterior %.3f after %d evaluations; converged (a restart gained %.1e)", round, lp, found.Evaluations, found.LastGain)
+				break
+			}
+			if attempt == 3 {
+				j.logf("MAP search round %d: log posterior %.3f after %d evaluations; NOT converged (the last search gained %.2g): the reported point is the best found, not a maximum", round, lp, found.Evaluations, found.LastGain)
+				break
+			}
+			budget *= 4
+			j.logf("MAP search round %d: log posterior %.3f after %d evaluations, still rising (last gain %.2g); continuing with %d evaluations", round, lp, found.Evaluations, found.LastGain, budget)
 		}
-		if err != nil {
-			return nil, fmt.Errorf("finding the MAP: %w", err)
-		}
-		x, lp = found.X, found.LogDensity
-		j.logf("MAP search round %d: log posterior %.3f after %d evaluations", round, lp, found.Evaluations)
 		if round == 1 {
 			inner, err := j.flagInner(x)
 			if err != nil {
@@ -222,6 +242,10 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 	lp = logDensity(x)
 	j.logf("quadrature at %d pilots: %d nodes per source (median; %d–%d), %d not converged",
 		len(pilots), st.MedianNodes, st.MinNodes, st.MaxNodes, len(st.Unconverged))
+	if len(st.Fallback) > 0 {
+		j.logf("%d source(s) used up the panel refinements before resolving every peak and keep the fallback panels, refined on the error estimate alone: %s",
+			len(st.Fallback), strings.Join(st.Fallback, ", "))
+	}
 	res.MAP, res.MAPLogDensity, res.Spread, res.Pilots, res.Stats = x, lp, spread, pilots, st
 	return res, nil
 }
@@ -271,44 +295,31 @@ func mapScales(spreads, x []float64) []float64 {
 }
 
 // laplace returns the posterior standard deviation of each coordinate from the Hessian of
-// the log posterior at x (central differences with steps of a tenth of the prior spread,
-// shrunk until finite), the marginal ones when −H is positive definite and the conditional
-// 1/√(−H_ii) otherwise; a coordinate with no curvature keeps a tenth of its prior spread.
+// the log posterior at x (gonum's central finite differences, in coordinates scaled by a
+// hundredth of each prior spread), the marginal ones when −H is positive definite and the
+// conditional 1/√(−H_ii) otherwise; a coordinate with no curvature keeps a tenth of its
+// prior spread.
 func (j *Job) laplace(x, prior []float64, threads int) []float64 {
 	n := len(x)
-	f := j.Post.LogDensity
-	f0 := f(x)
-	h := make([]float64, n)
-	scales := mapScales(prior, x)
+	h := mapScales(prior, x)
 	for i := range h {
-		h[i] = 0.01 * scales[i]
+		h[i] *= 0.01
 	}
-	at := func(di, dj int, si, sj float64) float64 {
-		y := append([]float64(nil), x...)
-		y[di] += si * h[di]
-		y[dj] += sj * h[dj]
-		return f(y)
+	// In scaled coordinates y, x = x0 + h⊙y, so that one step suits every coordinate.
+	scaled := func(y []float64) float64 {
+		z := make([]float64, n)
+		for i := range z {
+			z[i] = x[i] + h[i]*y[i]
+		}
+		return j.Post.LogDensity(z)
 	}
-	// The n(n+1)/2 second derivatives are independent: share them among the threads.
-	type pair struct{ a, b int }
-	var pairs []pair
+	var Hy mat.SymDense
+	fd.Hessian(&Hy, scaled, make([]float64, n), &fd.Settings{Formula: fd.Central, Step: 1, Concurrent: threads != 1})
+	H := mat.NewSymDense(n, nil)
 	for a := range n {
 		for b := a; b < n; b++ {
-			pairs = append(pairs, pair{a, b})
+			H.SetSym(a, b, -Hy.At(a, b)/(h[a]*h[b]))
 		}
-	}
-	vals := make([]float64, len(pairs))
-	model.Parallel(len(pairs), threads, func(k int) {
-		a, b := pairs[k].a, pairs[k].b
-		if a == b {
-			vals[k] = (at(a, a, 0.5, 0.5) - 2*f0 + at(a, a, -0.5, -0.5)) / (h[a] * h[a])
-		} else {
-			vals[k] = (at(a, b, 1, 1) - at(a, b, 1, -1) - at(a, b, -1, 1) + at(a, b, -1, -1)) / (4 * h[a] * h[b])
-		}
-	})
-	H := mat.NewSymDense(n, nil)
-	for k, pr := range pairs {
-		H.SetSym(pr.a, pr.b, -vals[k])
 	}
 	out := make([]float64, n)
 	var chol mat.Cholesky

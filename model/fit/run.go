@@ -11,12 +11,10 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
-	"sort"
-	"strings"
 	"time"
 
+	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
 	"github.com/mirabilis-astro/mirabilis/mcmc"
-	"github.com/mirabilis-astro/mirabilis/model"
 	"github.com/mirabilis-astro/mirabilis/model/catalog"
 	"github.com/mirabilis-astro/mirabilis/model/config"
 )
@@ -25,7 +23,7 @@ import (
 const (
 	ManifestFile   = "run.json"       // what the run is and how far it got
 	ConfigFile     = "config.toml"    // the resolved configuration, usable with fit as it is
-	ChainFile      = "chain.csv"      // the chain, one row per walker per step
+	ChainFile      = "chain.npy"      // the chain (NumPy .npy), one record per walker per kept step
 	CheckpointFile = "checkpoint.bin" // the sampler's state and the quadrature layouts
 	PilotFile      = "pilot.json"     // the pilot stage: MAP point, spreads, quadrature
 	LogFile        = "log.txt"        // what the run reported, in order
@@ -144,36 +142,12 @@ func ReadManifest(dir string) (*Manifest, error) {
 	return &m, nil
 }
 
-// WriteFileAtomic writes data to path through a temporary file in the same folder, synced
-// and renamed over path, so that path holds either its old or its new content.
-func WriteFileAtomic(path string, data []byte) error {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp-*")
-	if err != nil {
-		return err
-	}
-	tmp := f.Name()
-	_, err = f.Write(data)
-	if err == nil {
-		err = f.Sync()
-	}
-	if cerr := f.Close(); err == nil {
-		err = cerr
-	}
-	if err == nil {
-		err = os.Rename(tmp, path)
-	}
-	if err != nil {
-		os.Remove(tmp)
-	}
-	return err
-}
-
 func writeJSON(path string, v any) error {
 	data, err := json.MarshalIndent(v, "", "  ")
 	if err != nil {
 		return err
 	}
-	return WriteFileAtomic(path, append(data, '\n'))
+	return atomicfile.Write(path, append(data, '\n'))
 }
 
 func now() string { return time.Now().UTC().Format(time.RFC3339) }
@@ -192,6 +166,11 @@ func Fit(ctx context.Context, cfg *config.Config, opts Options) (*Outcome, error
 	if err != nil {
 		return nil, err
 	}
+	for _, w := range cat.Warnings {
+		if opts.Log != nil {
+			fmt.Fprintf(opts.Log, "warning: %s\n", w)
+		}
+	}
 	catHash, err := FileSHA256(cfg.Catalog)
 	if err != nil {
 		return nil, err
@@ -208,7 +187,7 @@ func Fit(ctx context.Context, cfg *config.Config, opts Options) (*Outcome, error
 	if m, err := ReadManifest(dir); err == nil {
 		refineUntil = m.RefineUntil
 	}
-	logFile, err := os.OpenFile(filepath.Join(dir, LogFile), os.O_CREATE|os.O_APPEND|os.O_WRONLY, 0o644)
+	logFile, err := atomicfile.OpenAppend(filepath.Join(dir, LogFile))
 	if err != nil {
 		return nil, err
 	}
@@ -274,10 +253,10 @@ func claimDir(dir string, cfg *config.Config, catHash string, refineUntil int, o
 	}
 	// A new run directory, made under a temporary name and renamed into place.
 	parent := filepath.Dir(dir)
-	if err := os.MkdirAll(parent, 0o755); err != nil {
+	if err := atomicfile.MkdirAll(parent); err != nil {
 		return false, err
 	}
-	tmp, err := os.MkdirTemp(parent, "."+filepath.Base(dir)+".new-*")
+	tmp, err := atomicfile.MkdirTemp(parent, "."+filepath.Base(dir)+".new-*")
 	if err != nil {
 		return false, err
 	}
@@ -297,7 +276,7 @@ func claimDir(dir string, cfg *config.Config, catHash string, refineUntil int, o
 }
 
 func writeConfig(dir string, cfg *config.Config) error {
-	return WriteFileAtomic(filepath.Join(dir, ConfigFile), cfg.Resolved())
+	return atomicfile.Write(filepath.Join(dir, ConfigFile), cfg.Resolved())
 }
 
 func updateManifest(dir string, f func(m *Manifest)) error {
@@ -322,9 +301,6 @@ func burnLimit(s config.Sampler) int {
 	}
 }
 
-// monitorSources is how many sources the quadrature monitor checks at each checkpoint.
-const monitorSources = 64
-
 func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, opts Options) (*Outcome, error) {
 	cfg := job.Config
 	ckPath := filepath.Join(dir, CheckpointFile)
@@ -336,13 +312,13 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 				return nil, fmt.Errorf("%s: %w", ckPath, err)
 			}
 			job.logf("resuming at step %d", ck.Step)
-			data, err := os.ReadFile(filepath.Join(dir, PilotFile))
-			if err != nil {
+			var err error
+			pilot, err = readPilot(filepath.Join(dir, PilotFile), job.Post.Names())
+			if errors.Is(err, fs.ErrNotExist) {
 				return nil, fmt.Errorf("run directory %s has a checkpoint but no pilot stage: %w", dir, err)
 			}
-			pilot = new(PilotResult)
-			if err := json.Unmarshal(data, pilot); err != nil {
-				return nil, fmt.Errorf("%s: %w", filepath.Join(dir, PilotFile), err)
+			if err != nil {
+				return nil, err
 			}
 			if err := job.Exclude(pilot.Excluded); err != nil {
 				return nil, fmt.Errorf("%s: %w", filepath.Join(dir, PilotFile), err)
@@ -360,7 +336,7 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 		if err != nil {
 			return nil, err
 		}
-		if err := writeJSON(filepath.Join(dir, PilotFile), jsonSafe(pilot)); err != nil {
+		if err := writePilot(filepath.Join(dir, PilotFile), pilot); err != nil {
 			return nil, err
 		}
 	}
@@ -370,7 +346,6 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 		return nil, err
 	}
 	names := job.Post.Names()
-	nsrc := len(job.Like.Sources)
 	set := &mcmc.Settings{
 		Names:           names,
 		Walkers:         cfg.Sampler.Walkers,
@@ -379,7 +354,6 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 		Moves:           moves(cfg.Sampler),
 		Steps:           cfg.Sampler.Steps,
 		ChainPath:       filepath.Join(dir, ChainFile),
-		Comments:        []string{"mirabilis chain: sampled coordinates; stick_k are the membership fractions' stick-breaking reals"},
 		CheckpointPath:  ckPath,
 		CheckpointEvery: cfg.Sampler.CheckpointEvery,
 		Resume:          resuming,
@@ -404,63 +378,27 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 		if ev.Step == 0 {
 			return reply, nil
 		}
-		// Monitor the quadrature at a few walkers for a sample of sources.
-		w := len(ev.Positions)
-		var at []int
-		for m := range 4 {
-			at = append(at, (ev.Step/max(1, cfg.Sampler.CheckpointEvery)+m*w/4)%w)
-		}
-		sample := make([]int, 0, monitorSources)
-		stride := max(1, nsrc/monitorSources)
-		for i := (ev.Step * 7919) % max(1, stride); i < nsrc && len(sample) < monitorSources; i += stride {
-			sample = append(sample, i)
-		}
-		bad := map[int]float64{}
-		var params []*model.Params
-		for _, k := range at {
-			p, err := job.Post.Params(ev.Positions[k])
-			if err != nil {
-				continue
-			}
-			params = append(params, p)
-			for i, e := range job.Like.Monitor(p, sample) {
-				bad[i] = max(bad[i], e)
-			}
-		}
-		if len(bad) == 0 {
-			return reply, nil
-		}
-		// Name the worst few; the rest are counted.
-		worst := make([]int, 0, len(bad))
-		for _, i := range sample {
-			if _, ok := bad[i]; ok {
-				worst = append(worst, i)
-			}
-		}
-		sort.SliceStable(worst, func(a, b int) bool { return bad[worst[a]] > bad[worst[b]] })
-		var list []string
-		for k, i := range worst {
-			if k == 5 {
-				list = append(list, fmt.Sprintf("and %d more", len(worst)-5))
-				break
-			}
-			list = append(list, fmt.Sprintf("%s (%.1e)", job.Like.Sources[i].Name, bad[i]))
+		// Measure the quadrature error at a few walkers for a sample of sources.
+		chk, err := job.checkQuadrature(ev.Step, cfg.Sampler.CheckpointEvery, ev.Positions)
+		if err != nil {
+			return reply, err
 		}
 		refine := ev.Step <= limit && !ev.Final
 		action := "kept as they are (past burn-in)"
 		if refine {
 			action = "refined"
 		}
-		job.logf("step %d: estimated quadrature error above %.0e for %d of %d sources checked: %s; panels %s",
-			ev.Step, job.Spec.Tol, len(worst), len(sample), strings.Join(list, ", "), action)
-		if !refine {
+		name := func(i int) string { return job.Like.Sources[i].Name }
+		if msg := chk.report(ev.Step, job.Spec.Tol, name, action); msg != "" {
+			job.logf("%s", msg)
+		}
+		bad := chk.over(job.Spec.Tol)
+		if !refine || len(bad) == 0 {
 			return reply, nil
 		}
-		for _, i := range sample {
-			if _, ok := bad[i]; ok {
-				if err := job.Like.Refine(i, params); err != nil {
-					return reply, err
-				}
+		for _, i := range bad {
+			if err := job.Like.Refine(i, chk.Params); err != nil {
+				return reply, err
 			}
 		}
 		data, err := job.Like.MarshalLayouts()
@@ -476,7 +414,10 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 	}
 	start := mcmc.Start{Center: pilot.MAP, Scale: spread}
 	job.logf("sampling: %d walkers, %d dimensions, seed %d", set.Walkers, len(names), set.Seed)
-	res, err := mcmc.Run(ctx, mcmc.Problem{LogDensity: job.Post.LogDensity, Dim: len(names)}, start, set)
+	// Sources are shared among the threads that no walker keeps busy (fewer walkers in a
+	// half-step than threads, or the last walkers of one); the value is the same either way.
+	logDensity := func(x []float64) float64 { return job.Post.LogDensityParallel(x, set.Threads) }
+	res, err := mcmc.Run(ctx, mcmc.Problem{LogDensity: logDensity, Dim: len(names)}, start, set)
 	if err != nil {
 		return nil, err
 	}

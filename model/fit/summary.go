@@ -5,12 +5,14 @@ import (
 	"encoding/csv"
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"path/filepath"
 	"slices"
 	"strconv"
 	"strings"
 	"text/tabwriter"
 
+	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
 	"github.com/mirabilis-astro/mirabilis/mcmc"
 	"github.com/mirabilis-astro/mirabilis/model"
 )
@@ -34,13 +36,23 @@ type Quantity struct {
 	Hi95   float64 `json:"hi95"`
 	Mean   float64 `json:"mean"`
 	SD     float64 `json:"sd"`
-	// MAP is the value at the maximum a posteriori point (NaN when unknown).
+	// MAP is the value at the highest posterior point the pilot stage found (NaN when
+	// unknown): the maximum a posteriori point when Summary.MAPConverged.
 	MAP float64 `json:"map"`
-	// Tau is the integrated autocorrelation time in steps and ESS the effective sample size.
+	// Tau is the integrated autocorrelation time in steps and ESS the effective sample size
+	// N/τ.
 	Tau float64 `json:"tau"`
 	ESS float64 `json:"ess"`
-	// Prior is the prior expression of a sampled parameter ("" for derived quantities).
-	Prior string `json:"prior,omitempty"`
+	// Rhat is the rank-normalised split-R̂ and ESSBulk and ESSTail the bulk and tail
+	// effective sample sizes of Vehtari et al. (2021, Bayesian Analysis 16, 667), each
+	// walker counted as one chain (NaN for a constant series).
+	Rhat    float64 `json:"rhat"`
+	ESSBulk float64 `json:"ess_bulk"`
+	ESSTail float64 `json:"ess_tail"`
+	// Prior is the prior stated for a sampled parameter ("" for derived quantities). It is
+	// the parameter's effective prior only when no prior is put on a derived quantity:
+	// priors on derived quantities multiply the parameters' own (see Summary.DerivedPriors).
+	Prior string `json:"stated_prior,omitempty"`
 }
 
 // SourceResult is the posterior of one source.
@@ -61,8 +73,9 @@ type SourceResult struct {
 	Beta float64 `json:"beta"`
 	// InnerProb is the probability that the source lies inside R_inner.
 	InnerProb float64 `json:"inner_prob"`
-	// U, V, W (km/s) is the peculiar motion relative to circular rotation at the median
-	// distance, with its spread over posterior draws; NaN unless all kinematics are measured.
+	// U, V, W (km/s) is the posterior mean peculiar motion relative to circular rotation,
+	// and USD, VSD, WSD its standard deviation, over posterior draws each at a distance drawn
+	// from that draw's distance posterior; NaN unless all kinematics are measured.
 	U, V, W          float64 `json:"-"`
 	USD, VSD, WSD    float64 `json:"-"`
 	PeculiarMeasured bool    `json:"peculiar_measured"`
@@ -73,18 +86,25 @@ type SourceResult struct {
 
 // Summary is the posterior summary of a run.
 type Summary struct {
-	Steps      int        `json:"steps"`
-	Walkers    int        `json:"walkers"`
-	Burn       int        `json:"burn"`
-	Samples    int        `json:"samples"`
-	Status     string     `json:"status"`
-	Acceptance float64    `json:"acceptance"`
-	MaxTau     float64    `json:"max_tau"`
-	TauOK      bool       `json:"tau_reliable"`
-	Stuck      []int      `json:"stuck_walkers"`
-	Params     []Quantity `json:"parameters"`
-	Derived    []Quantity `json:"derived"`
-	Components []string   `json:"components"`
+	Steps      int     `json:"steps"`
+	Walkers    int     `json:"walkers"`
+	Burn       int     `json:"burn"`
+	Samples    int     `json:"samples"`
+	Status     string  `json:"status"`
+	Acceptance float64 `json:"acceptance"`
+	MaxTau     float64 `json:"max_tau"`
+	TauOK      bool    `json:"tau_reliable"`
+	// MAPConverged says whether the pilot stage's search for the maximum a posteriori
+	// point converged; when it did not, the MAP column is only the best point found.
+	MAPConverged bool       `json:"map_converged"`
+	Stuck        []int      `json:"stuck_walkers"`
+	Params       []Quantity `json:"parameters"`
+	Derived      []Quantity `json:"derived"`
+	Components   []string   `json:"components"`
+	// DerivedPriors lists the priors put on derived quantities ("Omega_sun ~ normal(…)").
+	// Each multiplies the priors of the parameters it depends on, so that their effective
+	// prior is not the one stated for each.
+	DerivedPriors []string `json:"derived_priors,omitempty"`
 	// MedianValues are the posterior medians of every parameter (fixed ones included) by
 	// name: the "median model" used for figures and source positions.
 	MedianValues map[string]float64 `json:"median_values"`
@@ -142,7 +162,7 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 	}
 	burn = min(burn, rows-2)
 	W := chain.Walkers()
-	s := &Summary{Steps: chain.Step[rows-1], Walkers: W, Burn: burn, Components: components(job.Spec)}
+	s := &Summary{Steps: chain.Step(rows - 1), Walkers: W, Burn: burn, Components: components(job.Spec)}
 	if res != nil {
 		s.Status, s.Acceptance, s.TauOK = res.Status.String(), res.MeanAcceptance(), res.TauReliable
 		for _, st := range res.Stuck {
@@ -164,9 +184,11 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 			series[q][k] = make([]float64, n)
 		}
 	}
+	var x []float64
 	for t := burn; t < rows; t++ {
 		for k := range W {
-			vals, der := job.values(chain.X[t][k])
+			x = chain.Position(t, k, x)
+			vals, der := job.values(x)
 			for q, name := range paramNames {
 				series[q][k][t-burn] = vals[name]
 			}
@@ -176,10 +198,18 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 		}
 	}
 	s.Samples = n * W
-	s.samples = samplesTable(names, chain.Step[burn:], series)
+	s.samples = samplesTable(names, chain.Steps()[burn:], series)
 	var mapVals, mapDer map[string]float64
 	if pilot != nil {
 		mapVals, mapDer = job.values(pilot.MAP)
+		s.MAPConverged = pilot.MAPConverged
+	}
+	for _, p := range cfg.DerivedPriors {
+		s.DerivedPriors = append(s.DerivedPriors, p.Name+" ~ "+p.Prior.String())
+	}
+	isFraction := map[string]bool{}
+	for _, name := range fractionNames(job.Spec) {
+		isFraction[name] = true
 	}
 	free := map[string]string{}
 	for i, name := range job.Config.ParamNames() {
@@ -206,13 +236,14 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 		// τ is NaN for a constant or too short series, and so is the ESS then.
 		qt.Tau, _ = mcmc.AutocorrTime(series[q], 5)
 		qt.ESS = float64(n*W) / qt.Tau
+		qt.Rhat, qt.ESSBulk, qt.ESSTail = mcmc.SplitRhat(series[q]), mcmc.BulkESS(series[q]), mcmc.TailESS(series[q])
 		if q < len(paramNames) {
-			if pr, ok := free[name]; ok || isFraction(name) {
+			if pr, ok := free[name]; ok || isFraction[name] {
 				qt.Prior = pr
-				if isFraction(name) {
+				if isFraction[name] {
 					qt.Prior = fmt.Sprintf("dirichlet(%g)", cfg.Membership.Concentration)
 				}
-				if !job.Spec.Galaxy && isFraction(name) {
+				if !job.Spec.Galaxy && isFraction[name] {
 					continue
 				}
 				s.Params = append(s.Params, qt)
@@ -229,7 +260,7 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 	nd := min(sourceDraws, n*W)
 	var draws []*model.Params
 	for i := range nd {
-		x := chain.X[burn+i*n/nd][i%W]
+		x := chain.Position(burn+i*n/nd, i%W, nil)
 		p, err := job.Post.Params(x)
 		if err != nil {
 			continue
@@ -280,8 +311,6 @@ func fractionNames(s *model.Spec) []string {
 	return out
 }
 
-func isFraction(name string) bool { return strings.HasPrefix(name, "f_") }
-
 // describe returns the quantiles and moments of a sample, NaN values left out.
 func describe(name string, x []float64) Quantity {
 	v := make([]float64, 0, len(x))
@@ -313,9 +342,13 @@ func describe(name string, x []float64) Quantity {
 	return q
 }
 
+// peculiarSeed seeds the distance draws of the peculiar motions (one stream per source).
+const peculiarSeed = 0x7065630a
+
 // SourceResults returns each source's posterior, averaged over the parameter sets draws
 // (memberships averaged; distance masses pooled on the source's fixed nodes; peculiar
-// motions at the pooled median distance), with positions under the median parameters.
+// motions at one distance per draw, drawn from that draw's distance posterior), with
+// positions under the median parameters.
 func SourceResults(job *Job, draws []*model.Params, median *model.Params) []SourceResult {
 	L, spec := job.Like, job.Spec
 	nc := spec.NumComponents()
@@ -328,11 +361,13 @@ func SourceResults(job *Job, draws []*model.Params, median *model.Params) []Sour
 		if src.Label > 0 {
 			r.Label = spec.Arms[src.Label-1].Name
 		}
-		d := L.NodeDistances(i)
+		d, w := L.NodeDistances(i), L.Layout(i).Weights()
 		pooled := make([]float64, len(d))
 		memb := make([]float64, nc)
+		posts := make([]*model.DistancePosterior, len(draws))
+		motions := make([]*model.Motion, len(draws))
 		var mass []float64
-		for _, p := range draws {
+		for k, p := range draws {
 			L.SourceDetail(i, p, memb)
 			for m := range memb {
 				r.Membership[m] += memb[m] / float64(len(draws))
@@ -341,6 +376,7 @@ func SourceResults(job *Job, draws []*model.Params, median *model.Params) []Sour
 			for j := range mass {
 				pooled[j] += mass[j] / float64(len(draws))
 			}
+			posts[k], motions[k] = model.NewDistancePosterior(d, w, mass), p.Motion
 		}
 		best := 0
 		for m := range r.Membership {
@@ -349,9 +385,8 @@ func SourceResults(job *Job, draws []*model.Params, median *model.Params) []Sour
 			}
 		}
 		r.Best = spec.ComponentName(best)
-		r.Distance = model.MassQuantile(d, pooled, 0.5)
-		r.DistanceLo = model.MassQuantile(d, pooled, 0.16)
-		r.DistanceHi = model.MassQuantile(d, pooled, 0.84)
+		dp := model.NewDistancePosterior(d, w, pooled)
+		r.Distance, r.DistanceLo, r.DistanceHi = dp.Quantile(0.5), dp.Quantile(0.16), dp.Quantile(0.84)
 		R, cb, sb := src.Sight.InPlane(median.Motion.R0(), r.Distance)
 		r.R, r.Beta = R, math.Atan2(sb, cb)*180/math.Pi
 		for j := range d {
@@ -360,12 +395,14 @@ func SourceResults(job *Job, draws []*model.Params, median *model.Params) []Sour
 			}
 		}
 		r.U, r.V, r.W, r.USD, r.VSD, r.WSD = math.NaN(), math.NaN(), math.NaN(), math.NaN(), math.NaN(), math.NaN()
-		if src.HasV && src.HasPM[0] && src.HasPM[1] {
+		// One distance per draw, from that draw's own distance posterior, so that the
+		// spread carries the distance's uncertainty as well as the parameters'.
+		rng := rand.New(rand.NewPCG(peculiarSeed, uint64(i)))
+		if uvw, ok := model.PeculiarDraws(src, motions, posts, rng); ok {
 			r.PeculiarMeasured = true
-			var us, vs, ws []float64
-			for _, p := range draws {
-				uvw, _ := src.PeculiarMotion(p.Motion, r.Distance)
-				us, vs, ws = append(us, uvw.U), append(vs, uvw.V), append(ws, uvw.W)
+			us, vs, ws := make([]float64, len(uvw)), make([]float64, len(uvw)), make([]float64, len(uvw))
+			for k, v := range uvw {
+				us[k], vs[k], ws[k] = v.U, v.V, v.W
 			}
 			r.U, r.USD = meanSD(us)
 			r.V, r.VSD = meanSD(vs)
@@ -417,15 +454,34 @@ func (s *Summary) Text() string {
 	if len(s.Stuck) > 0 {
 		fmt.Fprintf(&b, "Walkers that look stuck: %v\n", s.Stuck)
 	}
-	fmt.Fprintf(&b, "Distance quadrature: %d nodes per source (median; %d to %d)\n\n",
+	fmt.Fprintf(&b, "Distance quadrature: %d nodes per source (median; %d to %d)\n",
 		s.Quadrature.MedianNodes, s.Quadrature.MinNodes, s.Quadrature.MaxNodes)
+	mapColumn := "MAP"
+	if !s.MAPConverged {
+		mapColumn = "best found"
+		fmt.Fprintln(&b, "The search for the maximum a posteriori point did not converge: the column \"best found\" is the highest point it reached, not a maximum.")
+	}
+	if len(s.DerivedPriors) > 0 {
+		fmt.Fprintf(&b, "Priors on derived quantities (%s) multiply the parameters' own priors: the effective prior of each parameter they depend on is not the one stated for it.\n",
+			strings.Join(s.DerivedPriors, "; "))
+	}
+	var highRhat []string
+	for _, q := range append(append([]Quantity(nil), s.Params...), s.Derived...) {
+		if q.Rhat > RhatLimit {
+			highRhat = append(highRhat, q.Name)
+		}
+	}
+	if len(highRhat) > 0 {
+		fmt.Fprintf(&b, "R̂ above %g (walkers disagree; run longer): %s\n", RhatLimit, strings.Join(highRhat, ", "))
+	}
+	fmt.Fprintln(&b)
 	table := func(title string, qs []Quantity) {
 		fmt.Fprintln(&b, title)
 		tw := tabwriter.NewWriter(&b, 0, 0, 2, ' ', tabwriter.AlignRight)
-		fmt.Fprintln(tw, "quantity\tmedian\t−68%\t+68%\t95% interval\tMAP\tτ\tESS\t")
+		fmt.Fprintf(tw, "quantity\tmedian\t−68%%\t+68%%\t95%% interval\t%s\tτ\tESS\tbulk ESS\ttail ESS\tR̂\t\n", mapColumn)
 		for _, q := range qs {
-			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t[%s, %s]\t%s\t%s\t%s\t\n", q.Name, num(q.Median), num(q.Median-q.Lo68), num(q.Hi68-q.Median),
-				num(q.Lo95), num(q.Hi95), num(q.MAP), fixed1(q.Tau), fixed0(q.ESS))
+			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t[%s, %s]\t%s\t%s\t%s\t%s\t%s\t%s\t\n", q.Name, num(q.Median), num(q.Median-q.Lo68), num(q.Hi68-q.Median),
+				num(q.Lo95), num(q.Hi95), num(q.MAP), fixed1(q.Tau), fixed0(q.ESS), fixed0(q.ESSBulk), fixed0(q.ESSTail), fixed3(q.Rhat))
 		}
 		tw.Flush()
 		fmt.Fprintln(&b)
@@ -477,6 +533,17 @@ func fixed1(x float64) string {
 	return strconv.FormatFloat(x, 'f', 1, 64)
 }
 
+func fixed3(x float64) string {
+	if math.IsNaN(x) {
+		return "–"
+	}
+	return strconv.FormatFloat(x, 'f', 3, 64)
+}
+
+// RhatLimit is the split-R̂ above which a quantity is reported as not converged, the
+// threshold recommended by Vehtari et al. (2021, Bayesian Analysis 16, 667).
+const RhatLimit = 1.01
+
 func fixed0(x float64) string {
 	if math.IsNaN(x) {
 		return "–"
@@ -515,14 +582,14 @@ func (s *Summary) SourcesTable() []byte {
 
 // Write writes the summary's files into a run directory, each atomically.
 func (s *Summary) Write(dir string) error {
-	if err := WriteFileAtomic(filepath.Join(dir, SummaryText), []byte(s.Text())); err != nil {
+	if err := atomicfile.Write(filepath.Join(dir, SummaryText), []byte(s.Text())); err != nil {
 		return err
 	}
-	if err := WriteFileAtomic(filepath.Join(dir, SourcesCSV), s.SourcesTable()); err != nil {
+	if err := atomicfile.Write(filepath.Join(dir, SourcesCSV), s.SourcesTable()); err != nil {
 		return err
 	}
 	if s.samples != nil {
-		if err := WriteFileAtomic(filepath.Join(dir, SamplesCSV), s.samples); err != nil {
+		if err := atomicfile.Write(filepath.Join(dir, SamplesCSV), s.samples); err != nil {
 			return err
 		}
 	}

@@ -39,6 +39,7 @@ import (
 	"github.com/mirabilis-astro/mirabilis/model"
 	"github.com/mirabilis-astro/mirabilis/model/catalog"
 	"github.com/mirabilis-astro/mirabilis/model/config"
+	"github.com/mirabilis-astro/mirabilis/model/param"
 )
 
 // Survey describes the mock survey: how many sources, where it can see, how well it measures.
@@ -224,7 +225,7 @@ func (m *Model) checkSurvey(name string) error {
 		}
 	}
 	arms := m.Config.Arms
-	known := map[string]bool{"field": true}
+	known := map[string]bool{param.FieldComponent: true}
 	for _, a := range arms {
 		known[a.Name] = true
 	}
@@ -242,7 +243,7 @@ func (m *Model) checkSurvey(name string) error {
 		return bad("fractions", "shares add up to %g, more than 1", given)
 	}
 	n := 1 + len(arms)
-	names := append([]string{"field"}, make([]string, len(arms))...)
+	names := append([]string{param.FieldComponent}, make([]string, len(arms))...)
 	for i, a := range arms {
 		names[i+1] = a.Name
 	}
@@ -269,11 +270,7 @@ func (m *Model) checkSurvey(name string) error {
 	}
 	for i, nm := range names {
 		s.fractionsOrdered[i] /= sum
-		frac := config.FieldFraction
-		if i > 0 {
-			frac = "f_" + nm
-		}
-		m.Truth[frac] = s.fractionsOrdered[i]
+		m.Truth[param.FractionName(nm)] = s.fractionsOrdered[i]
 	}
 	return nil
 }
@@ -287,16 +284,16 @@ type Truth struct {
 	Z         float64 // kpc
 }
 
-// Draw draws the mock catalog. seed, when not nil, replaces the survey's seed. The same
-// description and seed give the same catalog.
-func (m *Model) Draw(seed *uint64) ([]catalog.Source, []Truth, error) {
+// Draw draws the mock catalog from spec, the fixed part of the model that m.Config
+// describes (package fit makes it: fit.SpecFromConfig). seed, when not nil, replaces the
+// survey's seed. The same description and seed give the same catalog.
+func (m *Model) Draw(spec *model.Spec, seed *uint64) ([]catalog.Source, []Truth, error) {
 	s := m.Survey
 	if seed != nil {
 		s.Seed = *seed
 	}
-	spec, err := model.SpecFromConfig(m.Config)
-	if err != nil {
-		return nil, nil, err
+	if spec.NumComponents() != 1+len(m.Config.Arms) {
+		return nil, nil, fmt.Errorf("mock: the model has %d arms, the description %d", len(spec.Arms), len(m.Config.Arms))
 	}
 	p, err := spec.NewParams(m.Truth)
 	if err != nil {
@@ -418,9 +415,10 @@ func round(x float64, digits int) float64 {
 	return math.Round(x*p) / p
 }
 
-// Render draws the mock and returns the catalog as CSV with the true values.
-func (m *Model) Render(seed *uint64) ([]byte, []Truth, error) {
-	sources, truth, err := m.Draw(seed)
+// Render draws the mock from spec (see Draw) and returns the catalog as CSV with the true
+// values.
+func (m *Model) Render(spec *model.Spec, seed *uint64) ([]byte, []Truth, error) {
+	sources, truth, err := m.Draw(spec, seed)
 	if err != nil {
 		return nil, nil, err
 	}

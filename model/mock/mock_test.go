@@ -8,6 +8,7 @@ import (
 
 	"github.com/mirabilis-astro/mirabilis/model"
 	"github.com/mirabilis-astro/mirabilis/model/catalog"
+	"github.com/mirabilis-astro/mirabilis/model/fit"
 )
 
 // survey is the [survey] table of the test: precise kinematics, a declination and a
@@ -49,11 +50,11 @@ func TestDrawFollowsTheModel(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	src, truth, err := m.Draw(nil)
+	spec, err := fit.SpecFromConfig(m.Config)
 	if err != nil {
 		t.Fatal(err)
 	}
-	spec, err := model.SpecFromConfig(m.Config)
+	src, truth, err := m.Draw(spec, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -108,7 +109,11 @@ func TestDrawFollowsTheModel(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	_, all, err := mAll.Draw(nil)
+	specAll, err := fit.SpecFromConfig(mAll.Config)
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, all, err := mAll.Draw(specAll, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

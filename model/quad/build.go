@@ -33,10 +33,10 @@ type Settings struct {
 	// announced by a breakpoint. Default 0.25.
 	MaxWidth float64
 
-	// MaxPanels caps the number of panels during refinement; a layout that
-	// reaches it before meeting Tol is reported as not converged. Default
-	// 400.
-	MaxPanels int
+	// MaxSplits caps the number of bisections refinement makes beyond the
+	// first panels. A layout that reaches it (or MinWidth) before meeting Tol
+	// and resolving its peaks falls back (see Stats.Fallback). Default 400.
+	MaxSplits int
 
 	// MinWidth is the narrowest panel that may still be bisected, in units
 	// of the integration variable. Default 1e-6.
@@ -71,8 +71,8 @@ func (s *Settings) resolved() (Settings, error) {
 	if r.MaxWidth == 0 {
 		r.MaxWidth = 0.25
 	}
-	if r.MaxPanels == 0 {
-		r.MaxPanels = 400
+	if r.MaxSplits == 0 {
+		r.MaxSplits = 400
 	}
 	if r.MinWidth == 0 {
 		r.MinWidth = 1e-6
@@ -90,8 +90,8 @@ func (s *Settings) resolved() (Settings, error) {
 		return r, fmt.Errorf("quad: MinPanels = %d, want at least 1", r.MinPanels)
 	case !(r.MaxWidth > 0):
 		return r, fmt.Errorf("quad: MaxWidth = %g, want a positive number", r.MaxWidth)
-	case r.MaxPanels < 1:
-		return r, fmt.Errorf("quad: MaxPanels = %d, want at least 1", r.MaxPanels)
+	case r.MaxSplits < 1:
+		return r, fmt.Errorf("quad: MaxSplits = %d, want at least 1", r.MaxSplits)
 	case !(r.MinWidth > 0) || math.IsInf(r.MinWidth, 1):
 		return r, fmt.Errorf("quad: MinWidth = %g, want a positive finite number", r.MinWidth)
 	case !(r.Depth > 0):
@@ -109,10 +109,19 @@ type Stats struct {
 	// Panels and Nodes count the layout's panels and nodes.
 	Panels, Nodes int
 
-	// Converged reports whether refinement met Tol and resolved every peak
-	// above Tol/10 at every pilot before reaching MaxPanels or MinWidth. A
-	// layout that did not converge is still usable; it was not merged.
+	// Converged reports whether the layout meets Tol by its refinement
+	// estimate at every pilot: refinement met Tol and resolved every peak
+	// above Tol/10 within MaxSplits bisections and MinWidth, or, failing
+	// that, the fallback met Tol (see Fallback). A layout that did not
+	// converge is still usable; it was not merged.
 	Converged bool
+
+	// Fallback reports that refinement ran out of bisections, or reached
+	// MinWidth, before every peak was resolved, and that the layout is the
+	// fallback: bisected on the error estimate alone, for at most MaxSplits
+	// more bisections, until it met Tol at every pilot (then Converged is
+	// true) or ran out again (then Converged is false).
+	Fallback bool
 
 	// Error bounds the error of the natural log of the layout's integral at
 	// each pilot: −ln(1 − x), with x the relative error made of the
@@ -333,13 +342,13 @@ func unresolvedPeak(u, v []float64) float64 {
 // an unresolved peak must be resolved: a tenth of Tol.
 const roughShare = 0.1
 
-// refine bisects panels until at every pilot the estimate Σ|K15 − G7| / I
-// meets Tol and no panel holds an unresolved peak (see unresolvedPeak) of
-// scale above roughShare × Tol × I; it reports whether that was reached. The
-// panel bisected next is the one with the largest share of the estimate at
-// a pilot still above Tol, or of an unresolved peak, measured in units of
-// its limit.
-func (b *builder) refine() (bool, error) {
+// refine bisects panels, at most splits times, until at every pilot the
+// estimate Σ|K15 − G7| / I meets Tol and, with roughToo, no panel holds an
+// unresolved peak (see unresolvedPeak) of scale above roughShare × Tol × I;
+// it reports whether that was reached. The panel bisected next is the one
+// with the largest share of the estimate at a pilot still above Tol, or of
+// an unresolved peak, measured in units of its limit.
+func (b *builder) refine(roughToo bool, splits int) (bool, error) {
 	b.retotal()
 	logI := make([]float64, b.np)
 	overErr := make([]bool, b.np)
@@ -359,7 +368,7 @@ func (b *builder) refine() (bool, error) {
 			for p := range b.np {
 				e := b.ests[i*b.np+p]
 				r := e.lr - logI[p] - logRough
-				if r > 0 {
+				if roughToo && r > 0 {
 					rough = true
 					if !frozen && r > score {
 						best, score = i, r
@@ -381,9 +390,10 @@ func (b *builder) refine() (bool, error) {
 			continue
 		}
 		confirmed = false
-		if best < 0 || len(b.spans) >= b.set.MaxPanels {
+		if best < 0 || splits <= 0 {
 			return false, nil
 		}
+		splits--
 		s := b.spans[best]
 		mid := 0.5 * (s.lo + s.hi)
 		if !(s.lo < mid && mid < s.hi) {
@@ -526,37 +536,42 @@ func (b *builder) prune(a *account, probesOnly bool) error {
 	return nil
 }
 
-// merge merges runs of touching panels into single panels. A run is merged
-// when the merged panel's Kronrod value reproduces the sum of the Kronrod
-// values it replaces at every pilot, within what is left of the budget
-// MergeShare × Tol, the layout's own estimate Σ|K15 − G7| / I stays within
-// Tol at every pilot (so that Layout.Estimate at the pilots still meets
-// Tol), and the merged panel resolves its peaks as refinement demands.
+// merge merges runs of touching panels into fewer panels. A set of merges
+// is made when each merged panel's Kronrod value reproduces the sum of the
+// Kronrod values it replaces at every pilot, within what is left of the
+// budget MergeShare × Tol. The merged panel is compared with the resolved
+// panels it replaces, never with its own |K15 − G7|, which for a wide panel
+// over a smooth peak overstates its error by orders of magnitude (MODEL.md
+// §5, step 3): Layout.Estimate of a merged layout therefore may exceed Tol
+// at the pilots while its integral there is within MergeShare × Tol of the
+// refined one.
 //
-// Each maximal run of touching panels is first tried whole, then, where
-// that fails, its halves, recursively; then passes from left to right try
-// pairs of neighbours until a pass merges nothing. A merged panel is
-// evaluated once, even if tried again against other panels.
+// Each maximal run of touching panels is first merged into the fewest
+// panels, up to maxParts, cut at equal shares of its integral (see
+// partition); where that fails, it is tried whole, then its halves,
+// recursively; then passes from left to right try pairs of neighbours until
+// a pass merges nothing. A merged panel is evaluated once, even if tried
+// again against other panels.
 func (b *builder) merge(a *account) error {
 	m := &merger{
 		b:      b,
 		a:      a,
 		budget: b.set.MergeShare * b.set.Tol,
-		own:    make([]float64, b.np),
 		costs:  make([]float64, b.np),
 		seen:   make(map[[2]float64][]est),
-	}
-	for i := range b.spans {
-		for p := range b.np {
-			m.own[p] += share(b.ests[i*b.np+p].le, a.logI[p])
-		}
 	}
 	// Maximal runs, from the right so that indices to the left stay valid.
 	end := len(b.spans)
 	for i := len(b.spans) - 1; i >= 0; i-- {
 		if i == 0 || b.spans[i-1].hi != b.spans[i].lo {
-			if err := m.split(i, end); err != nil {
+			ok, err := m.partition(i, end)
+			if err != nil {
 				return err
+			}
+			if !ok {
+				if err := m.split(i, end); err != nil {
+					return err
+				}
 			}
 			end = i
 		}
@@ -584,9 +599,102 @@ type merger struct {
 	b      *builder
 	a      *account
 	budget float64
-	own    []float64 // per pilot, Σ|K15 − G7| / I of the current panels
 	costs  []float64
 	seen   map[[2]float64][]est // merged panels evaluated, by their ends
+}
+
+// maxParts is the largest number of panels partition tries to merge a run into.
+const maxParts = 6
+
+// partition merges the touching panels i0 … i1−1 into the fewest panels, up to maxParts,
+// whose edges lie at equal shares of the run's integral (averaged over the pilots, at the
+// nearest edges of the panels replaced), when together they meet the conditions of merge;
+// it reports whether it did.
+func (m *merger) partition(i0, i1 int) (bool, error) {
+	b, a, np := m.b, m.a, m.b.np
+	if i1-i0 < 2 {
+		return false, nil
+	}
+	// cum[i] is the run's mean share of the integral left of panel i0+i.
+	cum := make([]float64, i1-i0+1)
+	for i := i0; i < i1; i++ {
+		var s float64
+		for p := range np {
+			s += share(b.ests[i*np+p].lk, a.logI[p])
+		}
+		cum[i-i0+1] = cum[i-i0] + s
+	}
+	total := cum[len(cum)-1]
+	if !(total > 0) {
+		return false, nil
+	}
+	costs := make([]float64, np)
+	for k := 1; k <= min(maxParts, i1-i0-1); k++ {
+		// Cuts at the panel edges nearest the shares j/k of the run's integral.
+		cuts := []int{i0}
+		for j := 1; j < k; j++ {
+			q := total * float64(j) / float64(k)
+			c := sort.SearchFloat64s(cum, q)
+			if c > 0 && q-cum[c-1] < cum[min(c, len(cum)-1)]-q {
+				c--
+			}
+			c += i0
+			if c > cuts[len(cuts)-1] && c < i1 {
+				cuts = append(cuts, c)
+			}
+		}
+		cuts = append(cuts, i1)
+		if len(cuts)-1 < k {
+			continue
+		}
+		groups := make([][]est, len(cuts)-1)
+		ok := true
+		fill(costs, 0)
+		for g := range groups {
+			lo, hi := cuts[g], cuts[g+1]
+			if hi-lo == 1 {
+				continue
+			}
+			key := [2]float64{b.spans[lo].lo, b.spans[hi-1].hi}
+			e, seen := m.seen[key]
+			if !seen {
+				e = make([]est, np)
+				if err := b.evalPanel(key[0], key[1], e); err != nil {
+					return false, err
+				}
+				m.seen[key] = e
+			}
+			groups[g] = e
+			for p := range np {
+				lk := math.Inf(-1)
+				for i := lo; i < hi; i++ {
+					lk = logAdd(lk, b.ests[i*np+p].lk)
+				}
+				costs[p] += absDiff(e[p].lk, lk, a.logI[p])
+			}
+		}
+		for p := range np {
+			ok = ok && a.merged[p]+costs[p] <= m.budget
+		}
+		if !ok {
+			continue
+		}
+		for p := range np {
+			a.merged[p] += costs[p]
+		}
+		for g := len(groups) - 1; g >= 0; g-- {
+			lo, hi := cuts[g], cuts[g+1]
+			if groups[g] == nil {
+				continue
+			}
+			copy(b.ests[lo*np:(lo+1)*np], groups[g])
+			b.spans[lo].hi = b.spans[hi-1].hi
+			b.spans = slices.Delete(b.spans, lo+1, hi)
+			b.ests = slices.Delete(b.ests, (lo+1)*np, hi*np)
+		}
+		return true, nil
+	}
+	return false, nil
 }
 
 // split merges the touching panels i0 … i1−1 into one if it can, and else
@@ -606,8 +714,8 @@ func (m *merger) split(i0, i1 int) error {
 	return m.split(i0, mid)
 }
 
-// try merges the touching panels i0 … i1−1 into one if the conditions of
-// merge allow, and reports whether it did.
+// try merges the touching panels i0 … i1−1 into one if the budget of merge
+// allows, and reports whether it did.
 func (m *merger) try(i0, i1 int) (bool, error) {
 	b, a, np := m.b, m.a, m.b.np
 	key := [2]float64{b.spans[i0].lo, b.spans[i1-1].hi}
@@ -621,25 +729,16 @@ func (m *merger) try(i0, i1 int) (bool, error) {
 	}
 	for p := range np {
 		lk := math.Inf(-1)
-		var le float64
 		for i := i0; i < i1; i++ {
-			c := b.ests[i*np+p]
-			lk = logAdd(lk, c.lk)
-			le += share(c.le, a.logI[p])
+			lk = logAdd(lk, b.ests[i*np+p].lk)
 		}
 		m.costs[p] = absDiff(e[p].lk, lk, a.logI[p])
-		if a.merged[p]+m.costs[p] > m.budget ||
-			m.own[p]-le+share(e[p].le, a.logI[p]) > b.set.Tol ||
-			share(e[p].lr, a.logI[p]) > roughShare*b.set.Tol {
+		if a.merged[p]+m.costs[p] > m.budget {
 			return false, nil
 		}
 	}
 	for p := range np {
 		a.merged[p] += m.costs[p]
-		m.own[p] += share(e[p].le, a.logI[p])
-		for i := i0; i < i1; i++ {
-			m.own[p] -= share(b.ests[i*np+p].le, a.logI[p])
-		}
 	}
 	copy(b.ests[i0*np:(i0+1)*np], e)
 	b.spans[i0].hi = key[1]
@@ -714,6 +813,28 @@ func appendEqual(out []span, a, c, width float64, probe bool) []span {
 	return out
 }
 
+// cutSpans cuts the ascending spans at the breakpoints that lie inside one of
+// them, farther than minWidth from its ends.
+func cutSpans(spans []span, breaks []float64, minWidth float64) []span {
+	br := slices.Clone(breaks)
+	sort.Float64s(br)
+	var out []span
+	k := 0
+	for _, sp := range spans {
+		for k < len(br) && br[k] <= sp.lo {
+			k++
+		}
+		for ; k < len(br) && br[k] < sp.hi; k++ {
+			if x := br[k]; x-sp.lo >= minWidth && sp.hi-x >= minWidth {
+				out = append(out, span{lo: sp.lo, hi: x, probe: sp.probe})
+				sp.lo = x
+			}
+		}
+		out = append(out, sp)
+	}
+	return out
+}
+
 // Build lays out the quadrature of a positive function over [lo, hi] from
 // its natural log at one or more pilot parameter sets, as described in the
 // package documentation. breaks are candidate breakpoints: places where the
@@ -741,7 +862,7 @@ func Build(lo, hi float64, breaks []float64, pilots []func(u float64) float64, s
 			return nil, Stats{}, err
 		}
 	}
-	converged, err := b.refine()
+	converged, fallback, err := b.refineOrFallBack()
 	if err != nil {
 		return nil, Stats{}, err
 	}
@@ -755,7 +876,22 @@ func Build(lo, hi float64, breaks []float64, pilots []func(u float64) float64, s
 			return nil, Stats{}, err
 		}
 	}
-	return b.finish(lo, hi, converged, a)
+	l, st, err := b.finish(lo, hi, converged, a)
+	st.Fallback = fallback
+	return l, st, err
+}
+
+// refineOrFallBack refines the panels; when that runs out of bisections or
+// reaches MinWidth, it goes on bisecting on the error estimate alone, for as
+// many bisections again. It reports whether the layout met Tol and whether
+// it is the fallback.
+func (b *builder) refineOrFallBack() (converged, fallback bool, err error) {
+	converged, err = b.refine(true, b.set.MaxSplits)
+	if converged || err != nil {
+		return converged, false, err
+	}
+	converged, err = b.refine(false, b.set.MaxSplits)
+	return converged, true, err
 }
 
 // finish makes the layout and its statistics.
@@ -786,16 +922,19 @@ func (b *builder) finish(lo, hi float64, converged bool, a *account) (*Layout, S
 }
 
 // Refine returns a layout refined from l for new pilot parameter sets (for
-// instance those where Layout.Estimate or Layout.Unresolved exceeded the
-// tolerance): its panels are bisected as in Build until the estimate meets
-// s.Tol and every peak above s.Tol/10 is resolved at every new pilot, and
-// every other panel is kept as it is. Gaps in
-// l are looked into, in stretches as wide as Build's first panels, and a
-// stretch where the log-integrand comes within s.Depth of its maximum at
+// instance those where Check found l off by more than the tolerance): its
+// panels are cut at the breakpoints breaks (as in Build: places where the new
+// integrands may change sharply; those outside the range or within MinWidth
+// of a panel's edge are ignored) and bisected as in Build until the estimate
+// meets s.Tol and every peak above s.Tol/10 is resolved at every new pilot;
+// every other panel is kept as it is. Gaps in l are looked into, in
+// stretches as wide as Build's first panels, also cut at the breakpoints, and
+// a stretch where the log-integrand comes within s.Depth of its maximum at
 // some pilot becomes a panel and is refined too. Nothing is merged; the
-// panel cap s.MaxPanels counts old and new panels alike. l is not changed.
-// Stats.Error includes the mass the probes found in the gaps that remain.
-func Refine(l *Layout, pilots []func(u float64) float64, s *Settings) (*Layout, Stats, error) {
+// bisections are capped by s.MaxSplits, with the fallback of Build. l is not
+// changed. Stats.Error includes the mass the probes found in the gaps that
+// remain.
+func Refine(l *Layout, breaks []float64, pilots []func(u float64) float64, s *Settings) (*Layout, Stats, error) {
 	set, err := s.resolved()
 	if err != nil {
 		return nil, Stats{}, err
@@ -811,33 +950,24 @@ func Refine(l *Layout, pilots []func(u float64) float64, s *Settings) (*Layout, 
 		return nil, Stats{}, err
 	}
 	width := min(set.MaxWidth, (l.hi-l.lo)/float64(set.MinPanels))
-	probe := func(a, c float64) error {
-		if !(c > a) {
-			return nil
-		}
-		for _, sp := range appendEqual(nil, a, c, width, true) {
-			if err := b.push(sp); err != nil {
-				return err
-			}
-		}
-		return nil
-	}
+	var spans []span
 	at := l.lo
 	for _, p := range l.panels {
-		if err := probe(at, p.Lo); err != nil {
-			return nil, Stats{}, err
+		if p.Lo > at {
+			spans = appendEqual(spans, at, p.Lo, width, true)
 		}
-		if err := b.push(span{lo: p.Lo, hi: p.Hi}); err != nil {
-			return nil, Stats{}, err
-		}
+		spans = append(spans, span{lo: p.Lo, hi: p.Hi})
 		at = p.Hi
 	}
-	if err := probe(at, l.hi); err != nil {
-		return nil, Stats{}, err
+	if l.hi > at {
+		spans = appendEqual(spans, at, l.hi, width, true)
 	}
-	set.MaxPanels = max(set.MaxPanels, len(b.spans))
-	b.set = set
-	converged, err := b.refine()
+	for _, sp := range cutSpans(spans, breaks, set.MinWidth) {
+		if err := b.push(sp); err != nil {
+			return nil, Stats{}, err
+		}
+	}
+	converged, fallback, err := b.refineOrFallBack()
 	if err != nil {
 		return nil, Stats{}, err
 	}
@@ -846,5 +976,7 @@ func Refine(l *Layout, pilots []func(u float64) float64, s *Settings) (*Layout, 
 	if err := b.prune(a, true); err != nil {
 		return nil, Stats{}, err
 	}
-	return b.finish(l.lo, l.hi, converged, a)
+	r, st, err := b.finish(l.lo, l.hi, converged, a)
+	st.Fallback = fallback
+	return r, st, err
 }

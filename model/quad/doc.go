@@ -27,18 +27,29 @@
 //  3. Panels where the log-integrand stays more than Settings.Depth below its
 //     maximum at every pilot (at all 15 nodes and both ends) are deleted, so
 //     the layout may have gaps.
-//  4. Touching neighbours are merged while the merged panel's Kronrod value
-//     reproduces the sum of the Kronrod values it replaces at every pilot,
-//     spending at most Settings.MergeShare × Tol per pilot in total, and
-//     while the layout's own estimates at the pilots still meet Tol.
-//     A layout that did not converge is not merged.
+//  4. Runs of touching panels are merged into fewer panels while each merged
+//     panel's Kronrod value reproduces the sum of the Kronrod values it
+//     replaces at every pilot, spending at most Settings.MergeShare × Tol
+//     per pilot in total. The merged panel is judged against the resolved
+//     panels it replaces, not by its own |K15 − G7|, which overstates the
+//     error of a wide panel over a smooth peak by orders of magnitude; so
+//     Layout.Estimate of a merged layout may exceed Tol where its integral is
+//     accurate. A layout that did not converge is not merged.
+//
+// When refinement runs out of bisections (Settings.MaxPanels) or reaches
+// Settings.MinWidth before every peak is resolved, Build falls back: it
+// keeps bisecting on the error estimate alone, for as many bisections again,
+// and a layout whose estimate then meets Tol at every pilot is used, merged
+// as above, and marked Stats.Fallback. Only a layout whose estimate still
+// exceeds Tol is reported as not converged.
 //
 // The layout then gives the nodes and weights (Layout.Nodes,
 // Layout.Weights), the log of the integral from the log-integrand at the
-// nodes (Layout.LogIntegral), the error estimate for a new parameter set
-// (Layout.Estimate, Layout.Unresolved), further refinement for new
-// parameter sets (Refine), and a binary form for checkpoints
-// (Layout.MarshalBinary).
+// nodes (Layout.LogIntegral), further refinement for new parameter sets
+// (Refine), and with it the error of the layout at a new parameter set
+// (Check: the difference from the refined layout), the per-panel error
+// estimates (Layout.Estimate, Layout.Unresolved), and a binary form for
+// checkpoints (Layout.MarshalBinary).
 //
 // Peaks and edges that lie at a breakpoint are found whatever their width;
 // elsewhere only those that the first panels' nodes can see (see

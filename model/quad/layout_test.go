@@ -258,7 +258,7 @@ func TestUnresolvedCatchesAliasing(t *testing.T) {
 		}
 		t.Logf("peak at %.5f: estimate %.2g, true error %.3g, unresolved %.3g", c, l.Estimate(v), d, l.Unresolved(v))
 		// Refine resolves it.
-		rl, st, err := Refine(l, funcs(m), nil)
+		rl, st, err := Refine(l, nil, funcs(m), nil)
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -1,0 +1,5 @@
+//go:build !race
+
+package workpool
+
+const raceEnabled = false
