@@ -73,6 +73,7 @@ var commands = []*command{
 	simulateCommand,
 	checkCommand,
 	predictCommand,
+	batchCommand,
 	demoCommand,
 }
 
