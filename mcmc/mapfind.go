@@ -28,7 +28,8 @@ type MAPSettings struct {
 	Restarts int
 	// Settle is the gain in log-density below which a restart counts as
 	// having found nothing more: the search has then settled. Zero means
-	// 1e-4.
+	// 0.01, negligible beside a posterior's width of about n/2 in
+	// log-density for n parameters.
 	Settle float64
 	// Tolerance is the change in log-density below which a search is
 	// considered converged (absolute, in log-density units). Zero means 1e-9.
@@ -110,7 +111,7 @@ func FindMAP(logDensity func(x []float64) float64, x0 []float64, s *MAPSettings)
 	}
 	settle := s.Settle
 	if settle == 0 {
-		settle = 1e-4
+		settle = 0.01
 	}
 
 	centre := append([]float64(nil), x0...)

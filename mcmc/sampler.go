@@ -656,6 +656,11 @@ func (s *sampler) checkpoint(final bool) error {
 	if err := atomicfile.Write(s.set.CheckpointPath, ck.encode()); err != nil {
 		return fmt.Errorf("checkpoint at step %d: %w", s.step, err)
 	}
+	if s.set.AfterCheckpoint != nil {
+		if err := s.set.AfterCheckpoint(s.step); err != nil {
+			return fmt.Errorf("after the checkpoint at step %d: %w", s.step, err)
+		}
+	}
 	return nil
 }
 

@@ -120,6 +120,10 @@ type Settings struct {
 	// OnCheckpoint, if not nil, is called at every checkpoint before the
 	// checkpoint is written; see CheckpointEvent and CheckpointReply.
 	OnCheckpoint func(CheckpointEvent) (CheckpointReply, error)
+	// AfterCheckpoint, if not nil, is called once the checkpoint file of the
+	// given step is safely on disk, for example to record the step where a
+	// resumed run would continue. An error stops the run.
+	AfterCheckpoint func(step int) error
 
 	// Progress, if not nil, is called every ProgressEvery steps and once
 	// at the end of the run.

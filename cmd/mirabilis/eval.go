@@ -7,7 +7,6 @@ import (
 	"math"
 	"text/tabwriter"
 
-	"github.com/mirabilis-astro/mirabilis/model"
 	"github.com/mirabilis-astro/mirabilis/model/catalog"
 	"github.com/mirabilis-astro/mirabilis/model/config"
 	"github.com/mirabilis-astro/mirabilis/model/fit"
@@ -18,9 +17,10 @@ var evalCommand = &command{
 	Usage: "CONFIG.toml --params PARAMS.json [--format text|json]",
 	Short: "evaluate the prior and likelihood at given parameter values",
 	Long: `Eval evaluates the model of CONFIG.toml at the parameter values in PARAMS.json
-(see "mirabilis help params"): the log prior, the total log-likelihood, and each
-source's log-likelihood and membership probabilities. Each source's distance
-quadrature is laid out for exactly these values, to the configuration's tolerance.
+(see "mirabilis help params"; a run's summary.json gives its posterior medians):
+the log prior, the total log-likelihood, and each source's log-likelihood and
+membership probabilities. Each source's distance quadrature is laid out for
+exactly these values, to the configuration's tolerance.
 
 Parameters the configuration fixes take their fixed values unless PARAMS.json gives
 them; every free parameter and, in the galaxy mode, every membership fraction
@@ -118,7 +118,7 @@ func runEval(env *runEnv, o *evalOptions, args []string) error {
 	if err != nil {
 		return err
 	}
-	given, err := model.ReadParamValues(paramsPath)
+	given, err := fit.ReadValues(paramsPath)
 	if err != nil {
 		return err
 	}
@@ -174,49 +174,21 @@ func runEval(env *runEnv, o *evalOptions, args []string) error {
 	return tw.Flush()
 }
 
-// evaluate lays out the quadratures at the given values and evaluates the model there.
+// evaluate evaluates the model at the given values (fit.Evaluate) in the form eval writes.
 func evaluate(job *fit.Job, given map[string]float64) (*evalResult, error) {
-	values := map[string]float64{}
-	names, priors := job.Config.ParamNames(), job.Config.Priors()
-	for i, n := range names {
-		if priors[i].IsFixed() {
-			values[n] = priors[i].Quantile(0.5)
-		}
-	}
-	for n, v := range given {
-		values[n] = v
-	}
-	p, err := job.Spec.NewParams(values)
+	ev, err := fit.Evaluate(job, given)
 	if err != nil {
 		return nil, err
 	}
-	x, err := job.Post.Point(values)
-	if err != nil {
-		return nil, err
+	res := &evalResult{LogPrior: jsonNumber(ev.LogPrior), LogLikelihood: jsonNumber(ev.LogLikelihood), OutsidePrior: []outsideValue{}}
+	for _, o := range ev.Outside {
+		res.OutsidePrior = append(res.OutsidePrior, outsideValue{Name: o.Name, Value: o.Value, Prior: o.Prior,
+			Low: jsonNumber(o.Low), High: jsonNumber(o.High)})
 	}
-	if _, err := job.Like.BuildLayouts([]*model.Params{p}, job.Config.Sampler.Threads); err != nil {
-		return nil, err
-	}
-	res := &evalResult{LogPrior: jsonNumber(job.Post.LogPrior(x)), OutsidePrior: []outsideValue{}}
-	for i, n := range names {
-		v, ok := values[n]
-		if !ok || priors[i].IsFixed() {
-			continue
-		}
-		if lo, hi := priors[i].Support(); v < lo || v > hi || math.IsInf(priors[i].LogProb(v), -1) {
-			res.OutsidePrior = append(res.OutsidePrior, outsideValue{Name: n, Value: v, Prior: priors[i].String(),
-				Low: jsonNumber(lo), High: jsonNumber(hi)})
-		}
-	}
-	memb := make([]float64, job.Spec.NumComponents())
-	for i, s := range job.Like.Sources {
-		ll := job.Like.SourceDetail(i, p, memb)
-		es := evalSource{Name: s.Name, LogLikelihood: jsonNumber(ll), Membership: map[string]float64{}}
-		for m, v := range memb {
+	for _, s := range ev.Sources {
+		es := evalSource{Name: s.Name, LogLikelihood: jsonNumber(s.LogLikelihood), Membership: map[string]float64{}}
+		for m, v := range s.Membership {
 			es.Membership[job.Spec.ComponentName(m)] = v
-		}
-		if !job.Like.Excluded[i] {
-			res.LogLikelihood += jsonNumber(ll)
 		}
 		res.Sources = append(res.Sources, es)
 	}

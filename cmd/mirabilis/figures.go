@@ -206,191 +206,43 @@ func motionScale(speeds []float64, rMax float64) float64 {
 // curveDraws is the number of posterior draws the rotation-curve figure is computed from.
 const curveDraws = 400
 
-// posteriorMotions returns the kinematic models of up to n posterior draws: from the chain
-// after burn-in when there is one, spread evenly over its rows and taking the walkers in
-// turn, otherwise from the summary's draws. Draws that make no model are left out.
-func (in *figureInput) posteriorMotions(n int) []*model.Motion {
-	var out []*model.Motion
-	add := func(values map[string]float64) {
-		if p, err := in.job.Spec.NewParams(values); err == nil {
-			out = append(out, p.Motion)
-		}
-	}
-	c := in.chain()
-	if c == nil || c.Walkers() == 0 || in.job.Post == nil {
-		for _, d := range in.sum.Draws {
-			add(d)
-		}
-		return out
-	}
-	burn := min(max(in.sum.Burn, 0), c.Len()-1)
-	rows, w := c.Len()-burn, c.Walkers()
-	n = min(n, rows*w)
-	for i := range n {
-		add(in.job.Post.Values(c.Position(burn+i*rows/n, i%w, nil)))
-	}
-	return out
-}
-
-// curveBands holds the posterior quantiles of Θ(R) on a grid of radii.
-type curveBands struct {
-	R                              []float64
-	Median, Lo68, Hi68, Lo95, Hi95 []float64
-}
-
-// rotationBands evaluates the rotation curve of every draw's motion on n+1 radii from 0 to
-// rMax (kpc) and returns the median and the central 68% and 95% intervals at each radius;
-// with no draw it returns an error.
-func rotationBands(motions []*model.Motion, rMax float64, n int) (curveBands, error) {
-	if len(motions) == 0 {
-		return curveBands{}, errors.New("no posterior draw makes a rotation curve")
-	}
-	b := curveBands{R: make([]float64, n+1)}
-	cols := []*[]float64{&b.Median, &b.Lo68, &b.Hi68, &b.Lo95, &b.Hi95}
-	for _, c := range cols {
-		*c = make([]float64, n+1)
-	}
-	probs := []float64{0.5, 0.16, 0.84, 0.025, 0.975}
-	th := make([]float64, len(motions))
-	for j := range b.R {
-		R := rMax * float64(j) / float64(n)
-		b.R[j] = R
-		for k, m := range motions {
-			th[k] = m.Curve().Theta(R)
-		}
-		q := mcmc.Quantiles(probs, th, nil)
-		for k, c := range cols {
-			(*c)[j] = q[k]
-		}
-	}
-	return b, nil
-}
-
-// azimuthalSpeed returns the speed along Galactic rotation (km/s) of source s at distance d
-// (kpc) under motion m, from its proper motion and line-of-sight velocity: its peculiar V
-// plus Θ(R). The source must have all three kinematic terms.
-func azimuthalSpeed(m *model.Motion, s *model.Source, d float64) float64 {
-	uvw, _ := s.PeculiarMotion(m, d)
-	R, _, _ := s.Sight.InPlane(m.R0(), d)
-	return uvw.V + m.Curve().Theta(R)
-}
-
-// radiusRange returns the least and greatest Galactocentric radius (kpc) along sightline s
-// between distances d0 and d1 (kpc): the radius along a line of sight has at most one
-// minimum (the tangent point), so the ends and a fine sampling between them bound it.
-func radiusRange(s *model.Sightline, R0, d0, d1 float64) (lo, hi float64) {
-	lo, hi = math.Inf(1), math.Inf(-1)
-	const n = 32
-	for j := 0; j <= n; j++ {
-		R, _, _ := s.InPlane(R0, d0+(d1-d0)*float64(j)/n)
-		lo, hi = min(lo, R), max(hi, R)
-	}
-	return lo, hi
-}
-
-// sourceSpeed returns the point of source i on the rotation curve: its radius and its
-// speed along rotation (Θ(R) + V, the circular speed it moves with) at its median distance
-// under the median model. The radius interval spans its 16–84% distance range; the speed
-// interval adds in quadrature the change of that speed across the distance range and its
-// spread over the posterior draws' motions (the Sun's motion and R0 enter it).
-func (in *figureInput) sourceSpeed(i int, motions []*model.Motion) (plots.CurveSource, bool) {
-	r := in.sum.Sources[i]
-	src := &in.job.Like.Sources[i]
-	if !r.PeculiarMeasured || !allFinite(r.R, r.Distance) || !(r.Distance > 0) {
-		return plots.CurveSource{}, false
-	}
-	m := in.median.Motion
-	c := plots.CurveSource{Name: r.Name, R: r.R, RLo: r.R, RHi: r.R, Prob: in.membership(i), TiedArm: in.tied[i]}
-	c.Theta = azimuthalSpeed(m, src, r.Distance)
-	if !allFinite(c.Theta) {
-		return plots.CurveSource{}, false
-	}
-	down, up := 0.0, 0.0
-	if allFinite(r.DistanceLo, r.DistanceHi) && r.DistanceLo > 0 && r.DistanceHi >= r.DistanceLo {
-		c.RLo, c.RHi = radiusRange(&src.Sight, m.R0(), r.DistanceLo, r.DistanceHi)
-		c.RLo, c.RHi = min(c.RLo, r.R), max(c.RHi, r.R)
-		for _, d := range []float64{r.DistanceLo, r.DistanceHi} {
-			if v := azimuthalSpeed(m, src, d); allFinite(v) {
-				down, up = max(down, c.Theta-v), max(up, v-c.Theta)
-			}
-		}
-	}
-	var speeds []float64
-	for _, mj := range motions {
-		if v := azimuthalSpeed(mj, src, r.Distance); allFinite(v) {
-			speeds = append(speeds, v)
-		}
-	}
-	sd := 0.0
-	if len(speeds) > 1 {
-		q := mcmc.Quantiles([]float64{0.16, 0.84}, speeds, nil)
-		sd = (q[1] - q[0]) / 2
-	}
-	c.ThetaLo = c.Theta - math.Hypot(down, sd)
-	c.ThetaHi = c.Theta + math.Hypot(up, sd)
-	return c, true
-}
-
 // rotationFigure draws the rotation curve: the posterior median and its 68% and 95% bands,
 // (R0, Θ0) with their 68% half-widths, and every source with measured proper motion and
-// velocity at the circular speed it moves with (see sourceSpeed), coloured by membership.
+// velocity at the circular speed it moves with (see fit.SourceSpeed), coloured by
+// membership.
 func rotationFigure(in *figureInput) (plots.Figure, vg.Length, vg.Length, error) {
-	m := in.median.Motion
-	motions := in.posteriorMotions(curveDraws)
-	var srcs []plots.CurveSource
-	rMax := 16.0
-	for i := range in.sum.Sources {
-		if c, ok := in.sourceSpeed(i, motions); ok {
-			rMax = max(rMax, c.RHi*1.03)
-			srcs = append(srcs, c)
-		}
-	}
-	rMax = math.Ceil(min(rMax, 40))
-	b, err := rotationBands(motions, rMax, int(rMax*20))
+	r, err := fit.Rotation(in.job, in.sum, in.chain(), curveDraws)
 	if err != nil {
 		return nil, 0, 0, err
 	}
+	srcs := make([]plots.CurveSource, len(r.Sources))
+	for k, c := range r.Sources {
+		srcs[k] = plots.CurveSource{Name: in.sum.Sources[c.Index].Name, R: c.R, RLo: c.RLo, RHi: c.RHi,
+			Theta: c.Theta, ThetaLo: c.ThetaLo, ThetaHi: c.ThetaHi, Prob: in.membership(c.Index), TiedArm: in.tied[c.Index]}
+	}
+	b := r.Bands
 	d := plots.CurveData{
-		Title:   "Rotation curve: posterior median with 68% and 95% bands",
-		R:       b.R,
-		Median:  b.Median,
-		Lo68:    b.Lo68,
-		Hi68:    b.Hi68,
-		Lo95:    b.Lo95,
-		Hi95:    b.Hi95,
-		R0:      m.R0(),
-		Theta0:  m.Theta0(),
-		RCore:   in.job.Spec.Curve.RCore,
-		RInner:  in.job.Spec.Bar.RInner,
-		Arms:    in.arms,
-		Sources: srcs,
-	}
-	if d.RCore == 0 {
-		d.RCore = model.DefaultCoreRadius
-	}
-	if q, ok := in.quantity(param.R0); ok {
-		d.R0, d.R0Err = q.Median, (q.Hi68-q.Lo68)/2
-	}
-	if q, ok := in.quantity(param.Theta0); ok {
-		d.Theta0, d.Theta0Err = q.Median, (q.Hi68-q.Lo68)/2
+		Title:     "Rotation curve: posterior median with 68% and 95% bands",
+		R:         b.R,
+		Median:    b.Median,
+		Lo68:      b.Lo68,
+		Hi68:      b.Hi68,
+		Lo95:      b.Lo95,
+		Hi95:      b.Hi95,
+		R0:        r.R0,
+		R0Err:     r.R0Err,
+		Theta0:    r.Theta0,
+		Theta0Err: r.Theta0Err,
+		RCore:     r.RCore,
+		RInner:    r.RInner,
+		Arms:      in.arms,
+		Sources:   srcs,
 	}
 	fig, err := plots.RotationCurvePlot(d)
 	if err != nil {
 		return nil, 0, 0, err
 	}
 	return fig, 9 * vg.Inch, 6 * vg.Inch, nil
-}
-
-// quantity returns the summary of a sampled parameter or a derived quantity by name.
-func (in *figureInput) quantity(name string) (fit.Quantity, bool) {
-	for _, list := range [][]fit.Quantity{in.sum.Params, in.sum.Derived} {
-		for _, q := range list {
-			if q.Name == name && allFinite(q.Median, q.Lo68, q.Hi68) {
-				return q, true
-			}
-		}
-	}
-	return fit.Quantity{}, false
 }
 
 // ---- triangle plots and traces ----

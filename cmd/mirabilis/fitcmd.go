@@ -35,7 +35,9 @@ lines when the output is not a terminal.
 Everything goes to the run directory (the configuration's output, or --out):
   config.toml     the resolved configuration, every default written out; it can be
                   given to fit as it is
-  run.json        the state of the run and the hashes of its configuration and catalog
+  run.json        the state of the run, the step of its last checkpoint, and the
+                  hashes of its configuration and catalog
+  run.lock        names the fit working in the directory (host, process, start)
   pilot.json      the maximum a posteriori point and the quadrature statistics
   chain.npy       the chain, as a NumPy array of shape (steps, walkers) with the
                   fields step, walker, log_density, then one per sampled
@@ -57,6 +59,20 @@ that was stopped (Ctrl-C, --time, a killed job) continues with --resume exactly 
 if it had never stopped; --steps N is the chain's total length, so a run stopped
 at step 17 and resumed with --steps 40 ends exactly as a run of 40 would. Resuming
 is refused if the configuration or the catalog changed.
+
+SIGINT (Ctrl-C), SIGTERM and SIGUSR1 (which sbatch --signal can send before a job's
+time limit) stop the run after the step in flight, with its checkpoint and chain
+written; a second signal stops it at once, keeping the last checkpoint. Even a run
+killed outright (kill -9, a node failure) continues exactly from its last checkpoint.
+
+Only one fit works in a run directory at a time: another is refused, naming the
+host, process and start time of the one at work. The lock of a fit that died on
+this host is taken over; one left by a fit on another host is not, since that fit
+may still run: delete run.lock in the run directory once it has surely stopped.
+
+Exit status: 0 when the run finished, 75 when it stopped early (a signal or --time)
+and continues with --resume (a job script requeues on 75), 1 on failure, 2 for a
+mistake on the command line.
 
 The same seed gives the same chain, whatever the number of threads.`,
 	Flags: func(fs *flag.FlagSet) runFunc {
@@ -107,11 +123,16 @@ func runFit(env *runEnv, f *fitFlags, args []string) error {
 		return err
 	}
 	out, err := fitAndReport(env, cfg, opts)
+	if errors.Is(err, context.Canceled) {
+		fmt.Fprintf(env.stderr, "mirabilis fit: stopped before sampling began; continue with\n\tmirabilis fit %s --resume --out %s\n", args[0], cfg.Output)
+		return exitError{exitStopped}
+	}
 	if err != nil {
 		return err
 	}
 	if out.Summary == nil {
 		fmt.Fprintf(env.stdout, "The run stopped at step %d; continue it with\n\tmirabilis fit %s --resume --out %s\n", out.Result.Step, args[0], out.Dir)
+		return exitError{exitStopped}
 	}
 	return nil
 }
@@ -125,7 +146,7 @@ func fitAndReport(env *runEnv, cfg *config.Config, opts fit.Options) (*fit.Outco
 	out, err := fit.Fit(env.ctx, cfg, opts)
 	pr.finish()
 	if errors.Is(err, context.Canceled) {
-		return nil, fmt.Errorf("interrupted before sampling began; the run in %s continues with --resume", cfg.Output)
+		return nil, fmt.Errorf("interrupted before sampling began; the run in %s continues with --resume: %w", cfg.Output, err)
 	}
 	if err != nil {
 		return nil, err

@@ -13,11 +13,9 @@ import (
 	"fmt"
 	"io"
 	"os"
-	"os/signal"
 	"runtime"
 	"runtime/debug"
 	"strings"
-	"syscall"
 	"text/tabwriter"
 
 	"github.com/mirabilis-astro/mirabilis/internal/spelling"
@@ -69,6 +67,8 @@ func (e exitError) Error() string { return fmt.Sprintf("exit status %d", e.code)
 // it reads first, then the tools around it.
 var commands = []*command{
 	fitCommand,
+	assignCommand,
+	reportCommand,
 	evalCommand,
 	simulateCommand,
 	checkCommand,
@@ -110,14 +110,15 @@ func commandNames(withTopics bool) []string {
 }
 
 func main() {
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	ctx, stop := stopOnSignal(os.Stderr)
 	code := run(ctx, os.Args[1:], os.Stdout, os.Stderr)
 	stop()
 	os.Exit(code)
 }
 
 // run executes the command line args and returns the process exit status: 0 for success,
-// 1 for a failure of the job (an invalid catalog, a failed fit), 2 for a usage error.
+// 1 for a failure of the job (an invalid catalog, a failed fit), 2 for a usage error, 75
+// (exitStopped) for a job stopped early that continues with --resume.
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	if len(args) == 0 {
 		printOverview(stderr)

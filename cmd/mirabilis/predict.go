@@ -3,10 +3,8 @@ package main
 import (
 	"encoding/csv"
 	"encoding/json"
-	"errors"
 	"flag"
 	"fmt"
-	"io"
 	"math"
 	"os"
 	"strconv"
@@ -14,40 +12,53 @@ import (
 	"text/tabwriter"
 
 	"github.com/mirabilis-astro/mirabilis/model"
+	"github.com/mirabilis-astro/mirabilis/model/catalog"
+	"github.com/mirabilis-astro/mirabilis/model/config"
+	"github.com/mirabilis-astro/mirabilis/model/fit"
 	"github.com/mirabilis-astro/mirabilis/model/param"
 )
 
 var predictCommand = &command{
 	Name:  "predict",
-	Usage: "--params PARAMS.json --at POINTS.csv [--format csv|json] [--core-radius KPC]",
+	Usage: "--params PARAMS.json --at PLACES.csv [--config CONFIG.toml] [--format csv|json] [--core-radius KPC]",
 	Short: "predict what sources at given places would be seen to do",
 	Long: `Predict computes, for a parameter set and a list of places in the Galaxy, what a
 source at each place would be seen to do if it moved exactly with the model: its
 Galactocentric radius and azimuth, the circular speed there, its proper motions in
 equatorial and Galactic coordinates and its line-of-sight velocity, heliocentric and
-in the radio LSR (see "mirabilis help params" for the parameter file).
+in the radio LSR.
 
-POINTS.csv is a CSV file with a header row and the columns l,b (deg, Galactic) or
-ra,dec (deg, ICRS), and distance (kpc); a name column is optional. Lines starting
-with # are comments.
+PARAMS.json is a parameter file (see "mirabilis help params") or a run's
+summary.json, whose posterior medians are then used.
 
-The output has one row (csv) or one object (json) per point with the keys
+PLACES.csv ("-" for standard input) is read like a catalog (see "mirabilis help
+catalog": comments, quoting, sexagesimal ra and dec, problems named by line and
+column) with the columns ra,dec (ICRS) or l,b (Galactic) in degrees, and distance
+(kpc); a name column is optional.
+
+The rotation curve's family follows from the parameter names. A nodes curve
+(Theta_1 …) needs its node radii: --config takes them, with the interpolation and
+the core radius, from the run's configuration. Without --config the core radius is
+--core-radius.
+
+The output has one row (csv) or one object (json) per place with the keys
   name, l, b, ra, dec (deg), distance (kpc), R (kpc), beta (deg), theta (km/s),
   pmra, pmdec, pml, pmb (mas/yr; pmra = μα cos δ, pml = μl cos b),
   vhelio, vlsr (km/s).`,
 	Flags: func(fs *flag.FlagSet) runFunc {
 		var o predictOptions
-		fs.StringVar(&o.params, "params", "", "`PARAMS.json`: parameter values, a JSON object keyed by name (required)")
-		fs.StringVar(&o.at, "at", "", "`POINTS.csv`: the places, CSV with l,b or ra,dec and distance (required)")
+		fs.StringVar(&o.params, "params", "", "`PARAMS.json`: parameter values, a JSON object keyed by name, or a run's summary.json (required)")
+		fs.StringVar(&o.at, "at", "", "`PLACES.csv`: the places, CSV with l,b or ra,dec and distance; - for standard input (required)")
+		fs.StringVar(&o.config, "config", "", "`CONFIG.toml` whose rotation-curve settings (node radii, interpolation, core radius) to use")
 		fs.StringVar(&o.format, "format", "csv", "output `FORMAT`: csv or json")
-		fs.Float64Var(&o.coreRadius, "core-radius", model.DefaultCoreRadius, "radius `KPC` inside which the rotation rises as a solid body")
+		fs.Float64Var(&o.coreRadius, "core-radius", model.DefaultCoreRadius, "radius `KPC` inside which the rotation rises as a solid body, without --config")
 		return func(env *runEnv, args []string) error { return runPredict(env, &o, args) }
 	},
 }
 
 type predictOptions struct {
-	params, at, format string
-	coreRadius         float64
+	params, at, config, format string
+	coreRadius                 float64
 }
 
 var paramsHelp = `A parameter file is a JSON object of parameter values keyed by name, for
@@ -57,7 +68,8 @@ example the true values of the demo galaxy ("mirabilis demo")
 	 "Usun": 10.5, "Vsun": 12.5, "Wsun": 7.5, "Us": 2, "Vs": -3, "Ws": 0,
 	 "sigma_vir": 6}
 
-It is read by "mirabilis predict" and "mirabilis eval". The names are those of the
+It is read by "mirabilis predict" and "mirabilis eval", which also take a run's
+summary.json and use its posterior medians. The names are those of the
 run configuration, the chain file and the summaries:
 
 ` + paramTableText() + `
@@ -100,13 +112,23 @@ func runPredict(env *runEnv, o *predictOptions, args []string) error {
 	if format != "csv" && format != "json" {
 		return usageErrorf("--format %q: want csv or json", format)
 	}
-	rcore := o.coreRadius
-	values, err := model.ReadParamValues(paramsPath)
+	values, err := fit.ReadValues(paramsPath)
 	if err != nil {
 		return err
 	}
-	motion, _, err := model.MotionFromParams(values, model.CurveSettings{RCore: rcore})
+	curve := model.CurveSettings{RCore: o.coreRadius}
+	if o.config != "" {
+		cfg, err := config.Load(o.config)
+		if err != nil {
+			return err
+		}
+		curve = fit.CurveFromConfig(cfg)
+	}
+	motion, _, err := model.MotionFromParams(values, curve)
 	if err != nil {
+		if _, nodes := values[param.NodeName(1)]; nodes && o.config == "" {
+			return fmt.Errorf("%s: a nodes rotation curve needs its node radii: give the run's configuration with --config", paramsPath)
+		}
 		return fmt.Errorf("%s: %w", paramsPath, err)
 	}
 	points, err := readPoints(atPath)
@@ -145,89 +167,35 @@ func runPredict(env *runEnv, o *predictOptions, args []string) error {
 	return w.Error()
 }
 
-// readPoints reads the places file of predict: CSV with a header naming l,b or ra,dec and
-// distance, and optionally name.
+// readPoints reads the places file of predict ("-" for standard input) with the catalog
+// reader and converts each position to both frames.
 func readPoints(path string) ([]point, error) {
-	f, err := os.Open(path)
+	var places []catalog.Place
+	var err error
+	if path == "-" {
+		places, err = catalog.ReadPlaces(os.Stdin, "standard input")
+	} else {
+		places, err = catalog.ReadPlacesFile(path)
+	}
 	if err != nil {
-		return nil, fmt.Errorf("reading places: %w", err)
+		return nil, err
 	}
-	defer f.Close()
-	r := csv.NewReader(f)
-	r.Comment = '#'
-	r.TrimLeadingSpace = true
-	header, err := r.Read()
-	if err != nil {
-		if errors.Is(err, io.EOF) {
-			return nil, fmt.Errorf("%s: empty file: want a header row with l,b or ra,dec and distance", path)
+	out := make([]point, len(places))
+	for i, pl := range places {
+		p := point{name: pl.Name, distance: pl.Distance}
+		if p.name == "" {
+			p.name = fmt.Sprintf("point-%d", i+1)
 		}
-		return nil, fmt.Errorf("%s: %w", path, err)
-	}
-	col := map[string]int{}
-	for i, h := range header {
-		h = strings.ToLower(strings.TrimSpace(strings.TrimPrefix(h, "\ufeff")))
-		switch h {
-		case "name", "l", "b", "ra", "dec", "distance":
-			if _, dup := col[h]; dup {
-				return nil, fmt.Errorf("%s:1:%d: column %q appears twice", path, i+1, h)
-			}
-			col[h] = i
-		default:
-			return nil, fmt.Errorf("%s:1:%d: unknown column %q (want name, l, b, ra, dec, distance)", path, i+1, h)
-		}
-	}
-	_, hasL := col["l"]
-	_, hasB := col["b"]
-	_, hasRA := col["ra"]
-	_, hasDec := col["dec"]
-	_, hasD := col["distance"]
-	galactic := hasL && hasB
-	switch {
-	case !hasD:
-		return nil, fmt.Errorf("%s:1: missing column distance", path)
-	case galactic == (hasRA && hasDec) || hasL != hasB || hasRA != hasDec:
-		return nil, fmt.Errorf("%s:1: want exactly one position pair, l,b or ra,dec", path)
-	}
-	var out []point
-	var problems []string
-	for {
-		rec, err := r.Read()
-		if errors.Is(err, io.EOF) {
-			break
-		}
-		if err != nil {
-			return nil, fmt.Errorf("%s: %w", path, err)
-		}
-		line, _ := r.FieldPos(0)
-		num := func(name string, lo, hi float64) float64 {
-			i := col[name]
-			v, err := strconv.ParseFloat(strings.TrimSpace(rec[i]), 64)
-			if err != nil || math.IsNaN(v) || math.IsInf(v, 0) || v < lo || v > hi {
-				problems = append(problems, fmt.Sprintf("%s:%d:%d (%s): value %q: want a number in [%g, %g]", path, line, i+1, name, rec[i], lo, hi))
-			}
-			return v
-		}
-		p := point{name: fmt.Sprintf("point-%d", len(out)+1)}
-		if i, ok := col["name"]; ok {
-			p.name = rec[i]
-		}
-		if galactic {
-			p.l, p.b = math.Mod(num("l", -360, 360)+360, 360), num("b", -90, 90)
+		if pl.Frame == catalog.Galactic {
+			p.l, p.b = pl.Lon, pl.Lat
 			p.ra, p.de = model.GalacticToICRS(p.l, p.b)
 			p.sight = model.NewSightline(p.l, p.b)
 		} else {
-			p.ra, p.de = num("ra", 0, 360), num("dec", -90, 90)
+			p.ra, p.de = pl.Lon, pl.Lat
 			p.l, p.b = model.ICRSToGalactic(p.ra, p.de)
 			p.sight = model.NewSightlineICRS(p.ra, p.de)
 		}
-		p.distance = num("distance", 1e-6, 1e3)
-		out = append(out, p)
-	}
-	if len(problems) > 0 {
-		return nil, fmt.Errorf("%d problem(s) in the places file:\n  %s", len(problems), strings.Join(problems, "\n  "))
-	}
-	if len(out) == 0 {
-		return nil, fmt.Errorf("%s: no places after the header", path)
+		out[i] = p
 	}
 	return out, nil
 }

@@ -63,6 +63,8 @@ type Error struct {
 	Problems []Problem
 	// More is the number of further problems found but not listed.
 	More int
+	// Kind names the file in messages: "" for a catalog, "places file" for ReadPlaces.
+	Kind string
 }
 
 // Error returns one problem per line (see [Problem.String]). With more than
@@ -74,7 +76,11 @@ func (e *Error) Error() string {
 	}
 	var b strings.Builder
 	n := len(e.Problems) + e.More
-	fmt.Fprintf(&b, "%s: catalog refused, %d problems:", e.File, n)
+	kind := e.Kind
+	if kind == "" {
+		kind = "catalog"
+	}
+	fmt.Fprintf(&b, "%s: %s refused, %d problems:", e.File, kind, n)
 	for _, p := range e.Problems {
 		b.WriteString("\n")
 		b.WriteString(p.String())

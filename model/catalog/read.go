@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"strings"
 	"unicode/utf8"
 
@@ -36,6 +37,7 @@ const (
 	colVHelio
 	colVHelioErr
 	colArm
+	colDistance // places files only (see ReadPlaces)
 	numColumns
 )
 
@@ -43,7 +45,7 @@ const (
 var columnNames = [numColumns]string{
 	"name", "ra", "dec", "l", "b", "parallax", "parallax_err",
 	"pmra", "pmra_err", "pmdec", "pmdec_err", "pml", "pml_err", "pmb", "pmb_err",
-	"vlsr", "vlsr_err", "vhelio", "vhelio_err", "arm",
+	"vlsr", "vlsr_err", "vhelio", "vhelio_err", "arm", "distance",
 }
 
 // columnUnits holds the unit of each numeric column, for messages.
@@ -53,6 +55,7 @@ var columnUnits = [numColumns]string{
 	colPMRA: "mas/yr", colPMRAErr: "mas/yr", colPMDec: "mas/yr", colPMDecErr: "mas/yr",
 	colPML: "mas/yr", colPMLErr: "mas/yr", colPMB: "mas/yr", colPMBErr: "mas/yr",
 	colVLSR: "km/s", colVLSRErr: "km/s", colVHelio: "km/s", colVHelioErr: "km/s",
+	colDistance: "kpc",
 }
 
 // valueErrorPairs lists each measured column with its uncertainty column.
@@ -80,6 +83,45 @@ func lookupColumn(name string) (column, bool) {
 	return 0, false
 }
 
+// placeColumns are the columns of a places file.
+var placeColumns = []column{colName, colRA, colDec, colL, colB, colDistance}
+
+const knownPlaceColumns = "known columns: name, ra, dec, l, b, distance"
+
+// column returns the column a header name stands for in the kind of file being read: a
+// catalog's columns, or those of a places file.
+func (rd *reader) column(name string) (column, bool) {
+	c, ok := lookupColumn(name)
+	if !ok {
+		return 0, false
+	}
+	if rd.places {
+		return c, slices.Contains(placeColumns, c)
+	}
+	return c, c != colDistance
+}
+
+// known lists the columns of the kind of file being read, for messages.
+func (rd *reader) known() string {
+	if rd.places {
+		return knownPlaceColumns
+	}
+	return knownColumns
+}
+
+// suggest returns the column of the kind of file being read nearest to an unknown name,
+// or "" if none is close (see spelling.Nearest).
+func (rd *reader) suggest(name string) string {
+	if rd.places {
+		names := make([]string, len(placeColumns))
+		for i, c := range placeColumns {
+			names[i] = columnNames[c]
+		}
+		return spelling.Nearest(name, names)
+	}
+	return suggestColumn(name)
+}
+
 // header is a parsed header row.
 type header struct {
 	line  int
@@ -105,11 +147,19 @@ func (h *header) label(c column) string {
 // wrapped.
 func Read(r io.Reader, name string) (*Catalog, error) {
 	rd := reader{ps: problems{err: Error{File: name}}, seen: map[string]int{}}
+	if err := rd.read(r, name); err != nil {
+		return nil, err
+	}
+	return &Catalog{Path: name, Header: rd.h.names, Sources: rd.sources, Warnings: rd.warnings}, nil
+}
+
+// read reads the lines of r into rd; name is used in messages.
+func (rd *reader) read(r io.Reader, name string) error {
 	br := bufio.NewReader(r)
 	for lineNo := 1; ; lineNo++ {
 		line, err := br.ReadString('\n')
 		if err != nil && !errors.Is(err, io.EOF) {
-			return nil, fmt.Errorf("reading catalog %s: %w", name, err)
+			return fmt.Errorf("reading %s %s: %w", rd.what(), name, err)
 		}
 		if line == "" && err != nil {
 			break
@@ -120,33 +170,38 @@ func Read(r io.Reader, name string) (*Catalog, error) {
 			line = strings.TrimPrefix(line, "\uFEFF")
 		}
 		if !rd.line(line, lineNo) {
-			return nil, &rd.ps.err
+			return &rd.ps.err
 		}
 		if err != nil {
 			break
 		}
 	}
 	switch {
+	case rd.h == nil && rd.ps.count() == 0 && rd.places:
+		rd.ps.add(Problem{Reason: "no header row: expected a line naming the columns, such as name,l,b,distance"})
 	case rd.h == nil && rd.ps.count() == 0:
 		rd.ps.add(Problem{Reason: "no header row: expected a line naming the columns, such as name,ra,dec,parallax,parallax_err"})
-	case rd.h != nil && len(rd.sources) == 0 && rd.ps.count() == 0:
-		rd.ps.add(Problem{Reason: fmt.Sprintf("no sources: the header on line %d is followed by no rows", rd.h.line)})
+	case rd.h != nil && len(rd.sources)+len(rd.placeList) == 0 && rd.ps.count() == 0:
+		rd.ps.add(Problem{Reason: fmt.Sprintf("no %s: the header on line %d is followed by no rows", rd.rowsName(), rd.h.line)})
 	}
 	if rd.ps.count() > 0 {
-		return nil, &rd.ps.err
+		return &rd.ps.err
 	}
 	for i := range rd.warnings {
 		rd.warnings[i].File = name
 	}
-	return &Catalog{Path: name, Header: rd.h.names, Sources: rd.sources, Warnings: rd.warnings}, nil
+	return nil
 }
 
-// reader holds the state of one Read.
+// reader holds the state of one Read or ReadPlaces.
 type reader struct {
 	ps      problems
 	h       *header
 	sources []Source
 	seen    map[string]int // name → line
+
+	places    bool // reading a places file (ReadPlaces), not a catalog
+	placeList []Place
 
 	lastComment     string // text of the last comment before the header
 	lastCommentLine int
@@ -232,7 +287,7 @@ func (rd *reader) header(fields []string, lineNo int) {
 			return ""
 		}
 		listed = true
-		return "; " + knownColumns
+		return "; " + rd.known()
 	}
 	for i, f := range fields {
 		p := Problem{Line: lineNo, Column: i + 1, Value: f}
@@ -241,11 +296,11 @@ func (rd *reader) header(fields []string, lineNo int) {
 			rd.ps.add(p)
 			continue
 		}
-		c, ok := lookupColumn(f)
+		c, ok := rd.column(f)
 		if !ok {
 			unknown++
 			p.Reason = "unknown column"
-			if s := suggestColumn(f); s != "" {
+			if s := rd.suggest(f); s != "" {
 				p.Reason += fmt.Sprintf(" (did you mean %q?)", s)
 			}
 			p.Reason += known()
@@ -262,6 +317,10 @@ func (rd *reader) header(fields []string, lineNo int) {
 	}
 	missing := func(c column, reason string) {
 		rd.ps.add(Problem{Line: lineNo, ColumnName: columnNames[c], Reason: reason})
+	}
+	if rd.places {
+		rd.placesHeader(h, lineNo)
+		return
 	}
 	if !h.has(colName) {
 		reason := "missing required column name"
@@ -412,6 +471,10 @@ func (rd *reader) row(fields []string, lineNo int) {
 		rd.ps.add(Problem{Line: lineNo, Reason: fmt.Sprintf(
 			"this row under the header looks like units (%s), not a source: the format fixes every column's unit (see the list of columns); remove the row or start it with '#'",
 			strings.Join(nonBlank(fields), ", "))})
+		return
+	}
+	if rd.places {
+		rd.place(lineNo)
 		return
 	}
 	s := Source{Line: lineNo}

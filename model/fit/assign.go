@@ -8,6 +8,7 @@ import (
 	"strings"
 
 	"github.com/mirabilis-astro/mirabilis/arms"
+	"github.com/mirabilis-astro/mirabilis/mcmc"
 	"github.com/mirabilis-astro/mirabilis/model"
 	"github.com/mirabilis-astro/mirabilis/model/catalog"
 )
@@ -235,4 +236,33 @@ func ParseSource(s string) (*catalog.Catalog, error) {
 		return nil, fmt.Errorf("source %q: %s", s, strings.Join(msgs, "; "))
 	}
 	return cat, err
+}
+
+// MedianParams returns the model at the medians of the draws' parameter values, the
+// membership fractions rescaled to sum to one: the "median model" that places sources and
+// draws figures.
+func MedianParams(job *Job, draws []Draw) (*model.Params, error) {
+	if len(draws) == 0 {
+		return nil, errors.New("no posterior draws")
+	}
+	vals := map[string]float64{}
+	col := make([]float64, len(draws))
+	for name := range draws[0].Values {
+		for k, d := range draws {
+			col[k] = d.Values[name]
+		}
+		slices.Sort(col)
+		vals[name] = mcmc.Quantile(0.5, col, nil)
+	}
+	var fsum float64
+	names := fractionNames(job.Spec)
+	for _, n := range names {
+		fsum += vals[n]
+	}
+	if fsum > 0 {
+		for _, n := range names {
+			vals[n] /= fsum
+		}
+	}
+	return job.Spec.NewParams(vals)
 }

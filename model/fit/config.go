@@ -16,12 +16,7 @@ import (
 func SpecFromConfig(c *config.Config) (*model.Spec, error) {
 	const deg = math.Pi / 180
 	s := &model.Spec{
-		Curve: model.CurveSettings{
-			Family:    c.Rotation.Curve,
-			NodeRadii: append([]float64(nil), c.Rotation.NodeRadii...),
-			Interp:    c.Rotation.Interpolation,
-			RCore:     c.Rotation.CoreRadius,
-		},
+		Curve: CurveFromConfig(c),
 		Bar: model.BarScatter{
 			Sigma:  c.Likelihood.BarDispersion,
 			Scale:  c.Likelihood.BarSoftening,
@@ -43,6 +38,17 @@ func SpecFromConfig(c *config.Config) (*model.Spec, error) {
 		s.Arms = append(s.Arms, model.NewArmSpec(a.Name, a.RefAzimuth, a.AzimuthRange[0], a.AzimuthRange[1], a.Kinked()))
 	}
 	return s, s.Validate()
+}
+
+// CurveFromConfig returns the rotation curve's settings a configuration makes: the family,
+// the node radii and interpolation of a nodes curve, and the core radius.
+func CurveFromConfig(c *config.Config) model.CurveSettings {
+	return model.CurveSettings{
+		Family:    c.Rotation.Curve,
+		NodeRadii: append([]float64(nil), c.Rotation.NodeRadii...),
+		Interp:    c.Rotation.Interpolation,
+		RCore:     c.Rotation.CoreRadius,
+	}
 }
 
 // PriorsFromConfig returns the priors a configuration sets: every parameter's, in the

@@ -168,8 +168,8 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
-		// A search that has not settled continues from where it stopped with four times
-		// the budget, at most three times.
+		// A search that has not settled continues once from where it stopped with twice
+		// the budget; if it still has not, the point is reported as the best found.
 		budget := 100 * (len(x) + 1) / round
 		for attempt := 0; ; attempt++ {
 			found, err := mcmc.FindMAP(logDensity, x, &mcmc.MAPSettings{Scale: mapScales(spreads, x), MaxEvaluations: budget, Restarts: 4})
@@ -184,11 +184,11 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 				j.logf("MAP search round %d: log posterior %.3f after %d evaluations; converged (a restart gained %.1e)", round, lp, found.Evaluations, found.LastGain)
 				break
 			}
-			if attempt == 3 {
+			if attempt == 1 {
 				j.logf("MAP search round %d: log posterior %.3f after %d evaluations; NOT converged (the last search gained %.2g): the reported point is the best found, not a maximum", round, lp, found.Evaluations, found.LastGain)
 				break
 			}
-			budget *= 4
+			budget *= 2
 			j.logf("MAP search round %d: log posterior %.3f after %d evaluations, still rising (last gain %.2g); continuing with %d evaluations", round, lp, found.Evaluations, found.LastGain, budget)
 		}
 		if round == 1 {

@@ -1,6 +1,7 @@
 package fit
 
 import (
+	"encoding/json"
 	"math"
 	"reflect"
 	"strings"
@@ -64,4 +65,11 @@ func safe(v reflect.Value) any {
 	default:
 		return v.Interface()
 	}
+}
+
+// JSONIndent encodes v as indented JSON with every NaN or infinite number written as null
+// (see the summaries' files), ending in a newline.
+func JSONIndent(v any) ([]byte, error) {
+	data, err := json.MarshalIndent(jsonSafe(v), "", "  ")
+	return append(data, '\n'), err
 }

@@ -38,8 +38,9 @@ const (
 
 // Manifest describes a run directory.
 type Manifest struct {
-	Format        int    `json:"format"`
-	State         string `json:"state"`
+	Format int    `json:"format"`
+	State  string `json:"state"`
+	// Step is the step of the last checkpoint: where a resumed run continues.
 	Step          int    `json:"step"`
 	ConfigHash    string `json:"config_sha256"`
 	CatalogPath   string `json:"catalog"`
@@ -180,10 +181,11 @@ func Fit(ctx context.Context, cfg *config.Config, opts Options) (*Outcome, error
 		return nil, err
 	}
 	dir := cfg.Output
-	resuming, err := claimDir(dir, cfg, catHash, refineUntil, opts)
+	resuming, lock, took, err := claimDir(dir, cfg, catHash, refineUntil, opts)
 	if err != nil {
 		return nil, err
 	}
+	defer lock.release()
 	if m, err := ReadManifest(dir); err == nil {
 		refineUntil = m.RefineUntil
 	}
@@ -197,6 +199,9 @@ func Fit(ctx context.Context, cfg *config.Config, opts Options) (*Outcome, error
 		logw = io.MultiWriter(logFile, opts.Log)
 	}
 	job.Log = logw
+	if took != nil {
+		job.logf("took over the lock of a fit that is no longer running (%s)", took)
+	}
 	out, err := runIn(ctx, job, dir, resuming, refineUntil, opts)
 	if err != nil {
 		// The directory stays as a run to resume; say why it stopped.
@@ -210,55 +215,82 @@ func Fit(ctx context.Context, cfg *config.Config, opts Options) (*Outcome, error
 	return out, err
 }
 
-// claimDir makes sure dir may hold this run, creating it whole if it does not exist. It
-// reports whether an existing run is to be resumed.
-func claimDir(dir string, cfg *config.Config, catHash string, refineUntil int, opts Options) (bool, error) {
+// claimDir makes sure dir may hold this run, creating it whole if it does not exist, and
+// takes its lock (see LockFile). It reports whether an existing run is to be resumed, and
+// the holder of a stale lock it took over.
+func claimDir(dir string, cfg *config.Config, catHash string, refineUntil int, opts Options) (resume bool, l *dirLock, took *LockHolder, err error) {
+	if _, err := os.Stat(filepath.Join(dir, ManifestFile)); err == nil {
+		if l, took, err = lockDir(dir); err != nil {
+			return false, nil, nil, err
+		}
+	}
+	resume, nl, err := claimLocked(dir, cfg, catHash, refineUntil, opts)
+	if nl != nil {
+		l.release()
+		l = nl
+	}
+	if err != nil {
+		l.release()
+		return false, nil, nil, err
+	}
+	return resume, l, took, nil
+}
+
+// claimLocked is claimDir once an existing run directory is locked; a new directory
+// comes with its own lock, returned.
+func claimLocked(dir string, cfg *config.Config, catHash string, refineUntil int, opts Options) (bool, *dirLock, error) {
 	m, err := ReadManifest(dir)
 	switch {
 	case err == nil:
 		switch {
 		case opts.Resume:
 			if m.ConfigHash != chainHash(cfg) {
-				return false, fmt.Errorf("run directory %s: the configuration differs from the one the run was started with (compare with %s); start a new run instead of resuming",
+				return false, nil, fmt.Errorf("run directory %s: the configuration differs from the one the run was started with (compare with %s); start a new run instead of resuming",
 					dir, filepath.Join(dir, ConfigFile))
 			}
 			if m.CatalogSHA256 != catHash {
-				return false, fmt.Errorf("run directory %s: the catalog %s changed since the run was started; start a new run instead of resuming", dir, cfg.Catalog)
+				return false, nil, fmt.Errorf("run directory %s: the catalog %s changed since the run was started; start a new run instead of resuming", dir, cfg.Catalog)
 			}
 			if m.State == StateFinished {
 				if _, err := os.Stat(filepath.Join(dir, CheckpointFile)); err != nil {
-					return false, fmt.Errorf("run directory %s: the run is finished and has no checkpoint to continue from", dir)
+					return false, nil, fmt.Errorf("run directory %s: the run is finished and has no checkpoint to continue from", dir)
 				}
 			}
-			return true, writeConfig(dir, cfg)
+			return true, nil, writeConfig(dir, cfg)
 		case opts.Force:
 			if err := os.RemoveAll(dir); err != nil {
-				return false, err
+				return false, nil, err
 			}
 		case m.State == StateFinished:
-			return false, fmt.Errorf("run directory %s holds a finished run; use --force to replace it or --out to choose another directory", dir)
+			return false, nil, fmt.Errorf("run directory %s holds a finished run; use --force to replace it or --out to choose another directory", dir)
 		default:
-			return false, fmt.Errorf("run directory %s holds a %s run (step %d); use --resume to continue it or --force to start again", dir, m.State, m.Step)
+			return false, nil, fmt.Errorf("run directory %s holds a %s run (step %d); use --resume to continue it or --force to start again", dir, m.State, m.Step)
 		}
 	case errors.Is(err, fs.ErrNotExist):
 		entries, derr := os.ReadDir(dir)
 		if derr == nil && len(entries) > 0 {
-			return false, fmt.Errorf("%s exists and is not a run directory; choose another with --out", dir)
+			return false, nil, fmt.Errorf("%s exists and is not a run directory; choose another with --out", dir)
 		}
 		if derr == nil {
 			os.Remove(dir)
 		}
 	default:
-		return false, err
+		return false, nil, err
 	}
 	// A new run directory, made under a temporary name and renamed into place.
 	parent := filepath.Dir(dir)
 	if err := atomicfile.MkdirAll(parent); err != nil {
-		return false, err
+		return false, nil, err
 	}
 	tmp, err := atomicfile.MkdirTemp(parent, "."+filepath.Base(dir)+".new-*")
 	if err != nil {
-		return false, err
+		return false, nil, err
+	}
+	// It appears locked: the lock is taken before the rename.
+	l, _, err := lockDir(tmp)
+	if err != nil {
+		os.RemoveAll(tmp)
+		return false, nil, err
 	}
 	m = &Manifest{Format: 1, State: StateRunning, ConfigHash: chainHash(cfg), CatalogPath: cfg.Catalog,
 		CatalogSHA256: catHash, Created: now(), Updated: now(), RefineUntil: refineUntil}
@@ -268,11 +300,15 @@ func claimDir(dir string, cfg *config.Config, catHash string, refineUntil int, o
 	if err == nil {
 		err = os.Rename(tmp, dir)
 	}
-	if err != nil {
-		os.RemoveAll(tmp)
-		return false, fmt.Errorf("creating run directory %s: %w", dir, err)
+	if err == nil {
+		err = atomicfile.SyncDir(parent)
 	}
-	return false, nil
+	if err != nil {
+		l.release()
+		os.RemoveAll(tmp)
+		return false, nil, fmt.Errorf("creating run directory %s: %w", dir, err)
+	}
+	return false, l, nil
 }
 
 func writeConfig(dir string, cfg *config.Config) error {
@@ -367,6 +403,11 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 	if cfg.Sampler.Steps == 0 {
 		set.AutoStop = true
 		set.Steps = cfg.Sampler.MaxSteps
+	}
+	set.AfterCheckpoint = func(step int) error {
+		return updateManifest(dir, func(m *Manifest) {
+			m.State, m.Step, m.StopReason = StateRunning, step, ""
+		})
 	}
 	first := !resuming
 	set.OnCheckpoint = func(ev mcmc.CheckpointEvent) (mcmc.CheckpointReply, error) {

@@ -6,6 +6,7 @@ import (
 	"errors"
 	"fmt"
 	"io/fs"
+	"os"
 	"path/filepath"
 	"strings"
 
@@ -87,9 +88,22 @@ func OpenRun(dir string) (*Run, error) {
 	return r, nil
 }
 
-// readRunChain reads the chain of the run in dir.
+// Close releases the run's chain file.
+func (r *Run) Close() error { return r.Chain.Close() }
+
+// oldChainFile is where runs made before the chain became a .npy file kept it (CSV).
+const oldChainFile = "chain.csv"
+
+// readRunChain reads the chain of the run in dir, from an older run's CSV chain when it has
+// no .npy one.
 func readRunChain(dir string) (*mcmc.Chain, error) {
-	return mcmc.ReadChainFile(filepath.Join(dir, ChainFile))
+	path := filepath.Join(dir, ChainFile)
+	if _, err := os.Stat(path); errors.Is(err, fs.ErrNotExist) {
+		if _, err := os.Stat(filepath.Join(dir, oldChainFile)); err == nil {
+			path = filepath.Join(dir, oldChainFile)
+		}
+	}
+	return mcmc.ReadChainFile(path)
 }
 
 // Burn returns the number of kept rows left out as burn-in: burn when positive, else the

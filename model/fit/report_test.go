@@ -1,0 +1,123 @@
+package fit
+
+import (
+	"context"
+	"math"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/mirabilis-astro/mirabilis/mcmc"
+)
+
+// tinyRun fits a 20-source mock for 40 steps and opens the run directory.
+func tinyRun(t *testing.T) *Run {
+	t.Helper()
+	path, _ := setUp(t, 20, "\n[sampler]\nwalkers = 40\nsteps = 40\nburn = 10\nseed = 5\n")
+	out := filepath.Join(filepath.Dir(path), "run")
+	if _, err := Fit(context.Background(), load(t, path), Options{Out: out, Threads: 2}); err != nil {
+		t.Fatal(err)
+	}
+	r, err := OpenRun(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return r
+}
+
+// shifted returns a copy of c with parameter j moved by delta in every walker and row.
+func shifted(t *testing.T, c *mcmc.Chain, j int, delta float64) *mcmc.Chain {
+	out := mcmc.NewChain(c.Names, c.Walkers())
+	for row := range c.Len() {
+		pos := make([][]float64, c.Walkers())
+		lp := make([]float64, c.Walkers())
+		for k := range pos {
+			pos[k] = c.Position(row, k, nil)
+			pos[k][j] += delta
+			lp[k] = c.LogDensity(row, k)
+		}
+		if err := out.Append(c.Step(row), pos, lp); err != nil {
+			t.Fatal(err)
+		}
+	}
+	return out
+}
+
+func TestReportMergesRuns(t *testing.T) {
+	if testing.Short() {
+		t.Skip("runs a short fit")
+	}
+	r := tinyRun(t)
+	draws := r.Draws(50, 0)
+	if len(draws) != 50 {
+		t.Fatalf("%d draws, want 50", len(draws))
+	}
+	single, err := NewReport([]*Run{r}, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The same run twice: the pooled sample is every value twice, whose quantiles are
+	// those of the single sample (a duplicated sample has the same empirical
+	// distribution; common practice, no source).
+	twin := *r
+	twin.Dir = r.Dir + "-twin"
+	double, err := NewReport([]*Run{r, &twin}, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for name, q := range single.Parameters {
+		if d := double.Parameters[name]; math.Abs(d.Median-q.Median) > 1e-12*math.Max(1, math.Abs(q.Median)) {
+			t.Errorf("%s: median %v merged with itself, %v alone", name, d.Median, q.Median)
+		}
+	}
+	if len(double.Runs) != 2 || len(double.Sources) != len(single.Sources) {
+		t.Errorf("merged report: %d runs, %d sources", len(double.Runs), len(double.Sources))
+	}
+	// Two runs stuck in different places: the second's R0 moved by ten posterior
+	// spreads. Within each run nothing changes; across them R̂ must exceed 1.01 and be
+	// reported.
+	j := -1
+	for k, n := range r.Chain.Names {
+		if n == "R0" {
+			j = k
+		}
+	}
+	away := *r
+	away.Dir = r.Dir + "-away"
+	away.Chain = shifted(t, r.Chain, j, 10*single.Parameters["R0"].SD)
+	apart, err := NewReport([]*Run{r, &away}, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	q := apart.Parameters["R0"]
+	if !(q.Rhat > 1.01) {
+		t.Errorf("R0: R̂ %.3f across runs ten spreads apart, want above 1.01", q.Rhat)
+	}
+	if math.Abs(q.RhatWithin-single.Parameters["R0"].RhatWithin) > 1e-12 {
+		t.Errorf("R0: R̂ within runs %.4f, %.4f for the run alone", q.RhatWithin, single.Parameters["R0"].RhatWithin)
+	}
+	if !strings.Contains(strings.Join(apart.Warnings, "\n"), "R0 (") {
+		t.Errorf("warnings %q do not name R0", apart.Warnings)
+	}
+	// A run of another configuration is refused, naming the difference.
+	other := *r
+	cfg := *r.Job.Config
+	cfg.Membership.FieldScale = 3.5
+	job := *r.Job
+	job.Config = &cfg
+	other.Job = &job
+	other.Dir = r.Dir + "-other"
+	if _, err := NewReport([]*Run{r, &other}, 0); err == nil || !strings.Contains(err.Error(), "3.5") {
+		t.Errorf("runs of different configurations: error %v, want one naming the changed setting", err)
+	}
+	// Report text and tables name every parameter and source.
+	text := single.Text()
+	for _, want := range []string{"R0", "Omega_sun", "R̂ within", single.Sources[0].Name} {
+		if !strings.Contains(text, want) {
+			t.Errorf("report text lacks %q", want)
+		}
+	}
+	if lines := strings.Count(string(single.SourcesCSV()), "\n"); lines != len(single.Sources)+1 {
+		t.Errorf("sources table: %d lines for %d sources", lines, len(single.Sources))
+	}
+}
