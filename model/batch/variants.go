@@ -24,6 +24,7 @@ const VariantsHelp = `A variants file lists runs that each change some settings 
   [[variant]]
   name = "power-law"
   set = { "rotation.curve" = "power", "params.alpha" = "uniform(-0.3, 0.3)" }
+  remove = ["params.dTheta_dR"]     # settings or whole arms left out
 
   [[variant]]
   name = "kinked-lantern"
@@ -31,7 +32,7 @@ const VariantsHelp = `A variants file lists runs that each change some settings 
 
   [[variant]]
   name = "three-arms"
-  remove = ["arm.Halcyon"]          # settings or whole arms left out
+  remove = ["arm.Halcyon"]
 
 Each variant's configuration is written to configs/NAME.toml in the batch folder and
 checked as "mirabilis fit" would check it before anything is submitted.`
@@ -66,14 +67,19 @@ func NewVariants(path, vpath, dir string) (*Plan, error) {
 	dec := toml.NewDecoder(bytes.NewReader(data))
 	dec.DisallowUnknownFields()
 	if err := dec.Decode(&vf); err != nil {
+		var se *toml.StrictMissingError
+		if errors.As(err, &se) {
+			var lines []string
+			for _, e := range se.Errors {
+				line, col := e.Position()
+				lines = append(lines, fmt.Sprintf("%s:%d:%d: unknown key %q: a variant has name, set and remove", vpath, line, col, strings.Join(e.Key(), ".")))
+			}
+			return nil, errors.New(strings.Join(lines, "\n"))
+		}
 		var de *toml.DecodeError
 		if errors.As(err, &de) {
 			line, col := de.Position()
 			return nil, fmt.Errorf("%s:%d:%d: %s", vpath, line, col, de.Error())
-		}
-		var se *toml.StrictMissingError
-		if errors.As(err, &se) {
-			return nil, fmt.Errorf("%s: %s (a variant has name, set and remove)", vpath, strings.TrimSpace(se.String()))
 		}
 		return nil, fmt.Errorf("%s: %w", vpath, err)
 	}
