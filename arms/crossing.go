@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"math"
 	"slices"
+
+	"github.com/mirabilis-astro/mirabilis/internal/roots"
 )
 
 // Galactocentric returns the cylindrical radius R (kpc) and azimuth β (radians, in (−π, π])
@@ -113,7 +115,7 @@ func (a Arm) Crossings(dst []Crossing, R0, l, dmax, margin float64) ([]Crossing,
 			if i >= 1 {
 				dPrev := d - h
 				if g1*g < 0 {
-					accept(bisect(f, dPrev, d, g1))
+					accept(roots.Bisect(f, dPrev, d, g1))
 				}
 				// A local minimum of |g| without a sign change may hide a pair of roots.
 				if i >= 2 && g0*g1 > 0 && g1*g > 0 &&
@@ -151,26 +153,6 @@ func (s *sightline) residual(d, shift float64) float64 {
 	return math.Log(R) - lnRk
 }
 
-// bisect returns a root of f in [a, b], where f(a) = fa and f(b) have opposite signs.
-func bisect(f func(float64) float64, a, b, fa float64) float64 {
-	for range 200 {
-		m := 0.5 * (a + b)
-		if m <= a || m >= b || b-a <= 1e-12*math.Max(1, math.Abs(m)) {
-			return m
-		}
-		fm := f(m)
-		if fm == 0 {
-			return m
-		}
-		if (fm < 0) == (fa < 0) {
-			a, fa = m, fm
-		} else {
-			b = m
-		}
-	}
-	return 0.5 * (a + b)
-}
-
 // pairRoots looks in [a, b] for the minimum of |f|, where f keeps the sign of fRef at the
 // ends, by golden-section search on sign(fRef)·f; if f changes sign there it reports the two
 // roots on either side of the minimum.
@@ -180,36 +162,12 @@ func pairRoots(f func(float64) float64, a, b, fRef float64, report func(float64)
 		sg = -1
 	}
 	g := func(x float64) float64 { return sg * f(x) }
-	const r = 0.6180339887498949 // (√5 − 1)/2
-	x1, x2 := b-r*(b-a), a+r*(b-a)
-	g1, g2 := g(x1), g(x2)
-	lo, hi := a, b
-	for range 80 {
-		if hi-lo <= 1e-12*math.Max(1, math.Abs(lo)) {
-			break
-		}
-		if g1 < g2 {
-			hi, x2, g2 = x2, x1, g1
-			x1 = hi - r*(hi-lo)
-			g1 = g(x1)
-		} else {
-			lo, x1, g1 = x1, x2, g2
-			x2 = lo + r*(hi-lo)
-			g2 = g(x2)
-		}
-		if g1 < 0 || g2 < 0 {
-			break
-		}
-	}
-	xm, gm := x1, g1
-	if g2 < g1 {
-		xm, gm = x2, g2
-	}
+	xm, gm := roots.GoldenMin(g, a, b, func(gx float64) bool { return gx < 0 })
 	if !(gm < 0) {
 		return
 	}
-	report(bisect(g, a, xm, g(a)))
-	report(bisect(g, xm, b, gm))
+	report(roots.Bisect(g, a, xm, g(a)))
+	report(roots.Bisect(g, xm, b, gm))
 }
 
 // SunLine appends to dst the points where the centre line of a crosses the Sun–centre line,

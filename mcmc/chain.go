@@ -230,7 +230,7 @@ func MergeChains(chains ...*Chain) (*Chain, error) {
 	first := chains[0]
 	rows, walkers := first.Len(), 0
 	for i, c := range chains {
-		if !equalStrings(c.Names, first.Names) {
+		if !slices.Equal(c.Names, first.Names) {
 			return nil, fmt.Errorf("merging chains: chain %d has parameters %v, chain 0 has %v", i, c.Names, first.Names)
 		}
 		rows = min(rows, c.Len())
@@ -260,18 +260,6 @@ func MergeChains(chains ...*Chain) (*Chain, error) {
 		}
 	}
 	return out, nil
-}
-
-func equalStrings(a, b []string) bool {
-	if len(a) != len(b) {
-		return false
-	}
-	for i := range a {
-		if a[i] != b[i] {
-			return false
-		}
-	}
-	return true
 }
 
 // checkNames reports whether names can serve as chain-file column headers.

@@ -1,6 +1,7 @@
 package mcmc
 
 import (
+	"slices"
 	"strings"
 	"testing"
 )
@@ -21,7 +22,7 @@ func TestReadChainLayout(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !equalStrings(c.Names, []string{"alpha", "beta"}) || c.Len() != 2 || c.Walkers() != 2 || c.Dim() != 2 {
+	if !slices.Equal(c.Names, []string{"alpha", "beta"}) || c.Len() != 2 || c.Walkers() != 2 || c.Dim() != 2 {
 		t.Fatalf("names %v, %d rows, %d walkers", c.Names, c.Len(), c.Walkers())
 	}
 	if c.Step(0) != 2 || c.Step(1) != 4 {

@@ -8,6 +8,7 @@ import (
 	"io"
 	"math"
 	"os"
+	"slices"
 	"strconv"
 	"strings"
 	"unicode/utf8"
@@ -211,7 +212,7 @@ func reopenChainFile(path string, names []string, walkers int, size int64, crc u
 	if err != nil {
 		return fail(err)
 	}
-	if !equalStrings(h.names, names) || h.walkers != walkers {
+	if !slices.Equal(h.names, names) || h.walkers != walkers {
 		return fail(fmt.Errorf("holds %d walkers of %v, the run has %d of %v", h.walkers, h.names, walkers, names))
 	}
 	want := npyHeader(names, 0, walkers)

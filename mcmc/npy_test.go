@@ -1,10 +1,13 @@
 package mcmc
 
 import (
+	"bufio"
 	"bytes"
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
+	"strconv"
 	"strings"
 	"testing"
 )
@@ -87,6 +90,86 @@ func TestNpyGolden(t *testing.T) {
 	}
 	if len(got) != 10+hlen+4*3*8*(3+len(goldenNames)) {
 		t.Errorf("%d bytes, want the header and 12 records", len(got))
+	}
+}
+
+// TestNpyReadByNumPy: what numpy.load(go_chain.npy, mmap_mode="r") saw, as the script
+// recorded it, equals the chain the Go code wrote, bit for bit.
+func TestNpyReadByNumPy(t *testing.T) {
+	f, err := os.Open(filepath.Join(npyRef, "go_chain_read.txt"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	sc := bufio.NewScanner(f)
+	var lines []string
+	for sc.Scan() {
+		if !strings.HasPrefix(sc.Text(), "#") {
+			lines = append(lines, sc.Text())
+		}
+	}
+	want := []string{"version 1.0", "shape 4 3",
+		"fields step:<i8 walker:<i8 log_density:<f8 R0:<f8 Theta0:<f8 o'clock:<f8"}
+	if len(lines) != 3+12 {
+		t.Fatalf("%d lines, want 15", len(lines))
+	}
+	for i, w := range want {
+		if lines[i] != w {
+			t.Errorf("NumPy saw %q, want %q", lines[i], w)
+		}
+	}
+	for i, line := range lines[3:] {
+		s, k := i/3, i%3
+		f := strings.Fields(line)
+		if len(f) != 3+len(goldenNames) || f[0] != strconv.Itoa(2*(s+1)) || f[1] != strconv.Itoa(k) {
+			t.Fatalf("record %d: %q", i, line)
+		}
+		vals := []float64{-float64(s*3+k) / 7}
+		for j := range goldenNames {
+			vals = append(vals, goldenValue(s, k, j))
+		}
+		for j, v := range vals {
+			got, err := strconv.ParseFloat(f[2+j], 64)
+			if err != nil || math.Float64bits(got) != math.Float64bits(v) {
+				t.Errorf("step %d walker %d field %d: NumPy read %s, the writer wrote %v", 2*(s+1), k, j, f[2+j], v)
+			}
+		}
+	}
+}
+
+// TestOpenNumPyFiles: files NumPy wrote in the chain layout (format 1.0, and 3.0 for a
+// non-ASCII field name) read back with the values the script put in.
+func TestOpenNumPyFiles(t *testing.T) {
+	for _, c := range []struct {
+		file           string
+		names          []string
+		steps, walkers int
+	}{
+		{"numpy_chain.npy", []string{"R0", "o'clock"}, 5, 4},
+		{"numpy_unicode.npy", []string{"Θ0"}, 2, 2},
+	} {
+		ch, err := OpenChain(filepath.Join(npyRef, c.file))
+		if err != nil {
+			t.Errorf("%s: %v", c.file, err)
+			continue
+		}
+		if !slices.Equal(ch.Names, c.names) || ch.Len() != c.steps || ch.Walkers() != c.walkers {
+			t.Errorf("%s: names %q, %d steps of %d walkers", c.file, ch.Names, ch.Len(), ch.Walkers())
+		}
+		for s := range ch.Len() {
+			for k := range ch.Walkers() {
+				x := ch.Position(s, k, nil)
+				ok := ch.Step(s) == 3*(s+1) && ch.LogDensity(s, k) == -float64(4*s+k)/8 &&
+					x[0] == 8+float64(s)/4+float64(k)/16
+				if len(x) > 1 {
+					ok = ok && x[1] == math.Pow(-1, float64(k))*math.Pow(2, -float64(s+k))
+				}
+				if !ok {
+					t.Errorf("%s: step %d walker %d: %d %v %v", c.file, s, k, ch.Step(s), ch.LogDensity(s, k), x)
+				}
+			}
+		}
+		ch.Close()
 	}
 }
 

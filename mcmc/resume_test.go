@@ -8,6 +8,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 	"time"
@@ -125,7 +126,7 @@ func chainOf(t *testing.T, b []byte) *Chain {
 }
 
 func sameChain(a, b *Chain) bool {
-	if !equalStrings(a.Names, b.Names) || a.Len() != b.Len() || a.Walkers() != b.Walkers() {
+	if !slices.Equal(a.Names, b.Names) || a.Len() != b.Len() || a.Walkers() != b.Walkers() {
 		return false
 	}
 	var x, y []float64

@@ -4,6 +4,7 @@ import (
 	"math"
 	"sort"
 
+	"gonum.org/v1/gonum/stat"
 	"gonum.org/v1/gonum/stat/distuv"
 )
 
@@ -176,16 +177,7 @@ func pooledQuantile(chains [][]float64, p float64) float64 {
 }
 
 // meanVar returns the mean and the variance (divisor N−1) of x.
-func meanVar(x []float64) (mean, variance float64) {
-	for _, v := range x {
-		mean += v
-	}
-	mean /= float64(len(x))
-	for _, v := range x {
-		variance += (v - mean) * (v - mean)
-	}
-	return mean, variance / float64(len(x)-1)
-}
+func meanVar(x []float64) (mean, variance float64) { return stat.MeanVariance(x, nil) }
 
 // basicRhat is the potential scale reduction of Gelman & Rubin (1992, Statist. Sci. 7, 457) in the
 // form of Vehtari et al. (2021): with N draws in each of M chains,

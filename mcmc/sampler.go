@@ -8,6 +8,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"os"
+	"slices"
 	"strconv"
 	"strings"
 	"time"
@@ -369,9 +370,9 @@ func (s *sampler) restore() error {
 		diff = fmt.Sprintf("%d parameters, the problem has %d", ck.Dim, s.dim)
 	case ck.Thin != s.set.Thin:
 		diff = fmt.Sprintf("thinning %d, settings have %d", ck.Thin, s.set.Thin)
-	case !equalStrings(ck.Names, s.set.Names):
+	case !slices.Equal(ck.Names, s.set.Names):
 		diff = fmt.Sprintf("parameters %v, settings have %v", ck.Names, s.set.Names)
-	case !equalStrings(ck.Moves, moves) || !equalFloats(ck.Weights, weights):
+	case !slices.Equal(ck.Moves, moves) || !slices.Equal(ck.Weights, weights):
 		diff = fmt.Sprintf("moves %v with weights %v, settings have %v with %v", ck.Moves, ck.Weights, moves, weights)
 	}
 	if diff != "" {
@@ -401,18 +402,6 @@ func (s *sampler) restore() error {
 		return fmt.Errorf("resuming: chain file %s holds %d steps, the checkpoint expects %d", s.set.ChainPath, cw.rows, ck.Kept)
 	}
 	return nil
-}
-
-func equalFloats(a, b []float64) bool {
-	if len(a) != len(b) {
-		return false
-	}
-	for i := range a {
-		if a[i] != b[i] {
-			return false
-		}
-	}
-	return true
 }
 
 // loop runs steps until a stopping rule holds.

@@ -237,11 +237,13 @@ func (ix *indexed) set(st *state, spec *Spec, x []float64, nFree int) bool {
 		for _, s := range ix.speeds {
 			st.speeds = append(st.speeds, s.get(x))
 		}
-		c, err := NewNodesCurve(ix.nodeRadii, st.speeds, ix.interp, ix.rCore)
-		if err != nil {
+		if st.nodes == nil {
+			st.nodes = new(NodesCurve)
+		}
+		if st.nodes.set(ix.nodeRadii, st.speeds, ix.interp, ix.rCore) != nil {
 			return false
 		}
-		st.nodes, curve, st.curveKind = c, c, curveKindNodes
+		curve, st.curveKind = st.nodes, curveKindNodes
 	}
 	var u [6]float64
 	for k, s := range ix.uvw {

@@ -30,7 +30,11 @@ var indexedCases = []indexedCase{
 	{"parallax-student", ErrorsStudent, false, false, CurveLinear},
 	{"multi-turn-power", ErrorsGaussian, true, true, CurvePower},
 	{"multi-turn-student", ErrorsStudent, true, true, CurveLinear},
+	{"nodes-tolerant", ErrorsTolerant, true, false, CurveNodes},
 }
+
+// indexedNodeRadii are the node radii (kpc) of the cases with a nodes curve.
+var indexedNodeRadii = []float64{3, 6, 9, 13}
 
 // indexedSources returns testSources and n random sources: Galactic and equatorial proper
 // motions, labelled and free, with each kinematic term missing now and then, some near the
@@ -70,11 +74,7 @@ func indexedSources(n int, seed uint64) []Source {
 // indexedPosterior builds the posterior of case c over L by hand, with the parameters of
 // testValues free under broad uniform priors (width_slope fixed at 0.01).
 func indexedPosterior(t testing.TB, c indexedCase, L *Likelihood) *Posterior {
-	vals := testValues()
-	if c.curve == CurvePower {
-		delete(vals, param.DThetaDR)
-		vals[param.Alpha] = 0.05
-	}
+	vals := pointValues(c)
 	var names []string
 	for name := range vals {
 		if name[:2] != "f_" {
@@ -117,6 +117,9 @@ func indexedSpec(t testing.TB, c indexedCase) *Spec {
 	spec := testSpec(t, c.errors)
 	spec.Galaxy = c.galaxy
 	spec.Curve.Family = c.curve
+	if c.curve == CurveNodes {
+		spec.Curve.NodeRadii = indexedNodeRadii
+	}
 	if c.multiTurn {
 		spec.Arms[0] = NewArmSpec("Corvid", 0, -40, 700, false)
 	}
@@ -206,30 +209,41 @@ func TestIndexedPerSource(t *testing.T) {
 
 func pointValues(c indexedCase) map[string]float64 {
 	v := testValues()
-	if c.curve == CurvePower {
+	switch c.curve {
+	case CurvePower:
 		delete(v, param.DThetaDR)
 		v[param.Alpha] = 0.05
+	case CurveNodes:
+		delete(v, param.DThetaDR)
+		delete(v, param.Theta0)
+		for j, th := range []float64{215, 228, 236, 231} {
+			v[param.NodeName(j+1)] = th
+		}
 	}
 	v[param.WidthSlope] = 0.01
 	return v
 }
 
-// TestIndexedNoAllocations checks that an evaluation allocates nothing.
+// TestIndexedNoAllocations checks that an evaluation allocates nothing, alone or with the
+// sources shared among workers, for every rotation-curve family and error model.
 func TestIndexedNoAllocations(t *testing.T) {
 	if raceEnabled {
 		t.Skip("the race detector makes sync.Pool drop items")
 	}
-	c := indexedCases[0]
-	spec := indexedSpec(t, c)
-	L, _ := indexedBuild(t, c, spec, indexedSources(70, 3))
-	p := indexedPosterior(t, c, L)
-	x, err := p.Point(pointValues(c))
-	if err != nil {
-		t.Fatal(err)
-	}
-	p.LogDensity(x)
-	if n := testing.AllocsPerRun(20, func() { p.LogDensity(x) }); n != 0 {
-		t.Errorf("LogDensity allocates %v times per evaluation, want 0", n)
+	for _, c := range indexedCases {
+		spec := indexedSpec(t, c)
+		L, _ := indexedBuild(t, c, spec, indexedSources(70, 3))
+		p := indexedPosterior(t, c, L)
+		x, err := p.Point(pointValues(c))
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, workers := range []int{1, 2} {
+			p.LogDensityParallel(x, workers)
+			if n := testing.AllocsPerRun(20, func() { p.LogDensityParallel(x, workers) }); n != 0 {
+				t.Errorf("%s, %d workers: an evaluation allocates %v times, want 0", c.name, workers, n)
+			}
+		}
 	}
 }
 

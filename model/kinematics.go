@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"math"
 	"sort"
+
+	"github.com/mirabilis-astro/mirabilis/internal/roots"
 )
 
 // UVW is a velocity in the local cylindrical frame of a point in the Galaxy, km/s: U toward
@@ -311,7 +313,12 @@ func (m *Motion) KinematicDistances(s *Sightline, vLSR, dMax float64) (Kinematic
 	for i := 1; i < n; i++ {
 		a, b := fs[i]-fs[i-1], fs[i+1]-fs[i]
 		if (a > 0 && b < 0) || (a < 0 && b > 0) {
-			breaks = append(breaks, goldenExtremum(f, ds[i-1], ds[i+1], a > 0))
+			g := f
+			if a > 0 { // a maximum of f
+				g = func(d float64) float64 { return -f(d) }
+			}
+			x, _ := roots.GoldenMin(g, ds[i-1], ds[i+1], nil)
+			breaks = append(breaks, x)
 		}
 	}
 	breaks = append(breaks, ds[n])
@@ -324,7 +331,7 @@ func (m *Motion) KinematicDistances(s *Sightline, vLSR, dMax float64) (Kinematic
 		case fb == 0:
 			sol.Distances = appendDistinct(sol.Distances, b)
 		case (fa < 0) != (fb < 0):
-			sol.Distances = appendDistinct(sol.Distances, bisectRoot(f, a, b, fa))
+			sol.Distances = appendDistinct(sol.Distances, roots.Bisect(f, a, b, fa))
 		}
 	}
 	sort.Float64s(sol.Distances)
@@ -337,48 +344,4 @@ func appendDistinct(ds []float64, d float64) []float64 {
 		return ds
 	}
 	return append(ds, d)
-}
-
-// goldenExtremum locates a local maximum (max true) or minimum of f within [a, b] by
-// golden-section search to a width of 1e-12 kpc.
-func goldenExtremum(f func(float64) float64, a, b float64, max bool) float64 {
-	g := func(x float64) float64 {
-		if max {
-			return -f(x)
-		}
-		return f(x)
-	}
-	r := (math.Sqrt(5) - 1) / 2
-	c, d := b-r*(b-a), a+r*(b-a)
-	gc, gd := g(c), g(d)
-	for i := 0; i < 200 && b-a > 1e-12; i++ {
-		if gc < gd {
-			b, d, gd = d, c, gc
-			c = b - r*(b-a)
-			gc = g(c)
-		} else {
-			a, c, gc = c, d, gd
-			d = a + r*(b-a)
-			gd = g(d)
-		}
-	}
-	return (a + b) / 2
-}
-
-// bisectRoot returns the root of f in [a, b], where f(a) = fa and f(b) differ in sign, to
-// 1e-12 kpc.
-func bisectRoot(f func(float64) float64, a, b, fa float64) float64 {
-	for i := 0; i < 200 && b-a > 1e-12; i++ {
-		c := 0.5 * (a + b)
-		fc := f(c)
-		if fc == 0 {
-			return c
-		}
-		if (fc < 0) == (fa < 0) {
-			a, fa = c, fc
-		} else {
-			b = c
-		}
-	}
-	return 0.5 * (a + b)
 }

@@ -1,10 +1,11 @@
 package model
 
 import (
-	"github.com/mirabilis-astro/mirabilis/model/param"
 	"math"
 	"math/rand/v2"
 	"testing"
+
+	"github.com/mirabilis-astro/mirabilis/model/param"
 )
 
 // motionFromRow builds the Motion of one row of frames_sources.csv through MotionFromParams,

@@ -166,52 +166,58 @@ type NodesCurve struct {
 	// Cubic on interval j, s = R − R_j: speeds[j] + s (b[j] + s (c[j] + s e[j])).
 	b, c, e  []float64
 	coreRate float64
+	work     []float64 // the monotone cubic's slopes, widths and secants (3n)
 }
 
 // NewNodesCurve returns the curve through speeds (km/s) at radii (kpc, strictly increasing,
 // positive), joined by interp, with core radius rCore (kpc, > 0). One node gives a flat
 // curve. The slices are copied.
 func NewNodesCurve(radii, speeds []float64, interp Interpolation, rCore float64) (*NodesCurve, error) {
+	c := new(NodesCurve)
+	if err := c.set(radii, speeds, interp, rCore); err != nil {
+		return nil, err
+	}
+	return c, nil
+}
+
+// set makes c the curve NewNodesCurve describes, in place, reusing c's storage.
+func (c *NodesCurve) set(radii, speeds []float64, interp Interpolation, rCore float64) error {
 	n := len(radii)
 	if n == 0 {
-		return nil, fmt.Errorf("nodes rotation curve: no nodes")
+		return fmt.Errorf("nodes rotation curve: no nodes")
 	}
 	if len(speeds) != n {
-		return nil, fmt.Errorf("nodes rotation curve: %d radii but %d speeds", n, len(speeds))
+		return fmt.Errorf("nodes rotation curve: %d radii but %d speeds", n, len(speeds))
 	}
 	if !(rCore > 0) || !isFiniteNumber(rCore) {
-		return nil, fmt.Errorf("nodes rotation curve: core radius %v kpc must be positive", rCore)
+		return fmt.Errorf("nodes rotation curve: core radius %v kpc must be positive", rCore)
 	}
 	if interp == "" {
 		interp = MonotoneCubic
 	}
 	if interp != MonotoneCubic && interp != LinearInterp {
-		return nil, fmt.Errorf("nodes rotation curve: unknown interpolation %q (want %q or %q)", interp, MonotoneCubic, LinearInterp)
+		return fmt.Errorf("nodes rotation curve: unknown interpolation %q (want %q or %q)", interp, MonotoneCubic, LinearInterp)
 	}
 	for j := 0; j < n; j++ {
 		if !isFiniteNumber(radii[j]) || radii[j] <= 0 {
-			return nil, fmt.Errorf("nodes rotation curve: radius %d is %v kpc, want a positive number", j+1, radii[j])
+			return fmt.Errorf("nodes rotation curve: radius %d is %v kpc, want a positive number", j+1, radii[j])
 		}
 		if j > 0 && radii[j] <= radii[j-1] {
-			return nil, fmt.Errorf("nodes rotation curve: radii must increase, but R_%d = %v ≤ R_%d = %v", j+1, radii[j], j, radii[j-1])
+			return fmt.Errorf("nodes rotation curve: radii must increase, but R_%d = %v ≤ R_%d = %v", j+1, radii[j], j, radii[j-1])
 		}
 		if !isFiniteNumber(speeds[j]) {
-			return nil, fmt.Errorf("nodes rotation curve: Theta_%d = %v must be finite", j+1, speeds[j])
+			return fmt.Errorf("nodes rotation curve: Theta_%d = %v must be finite", j+1, speeds[j])
 		}
 	}
-	c := &NodesCurve{
-		radii:  append([]float64(nil), radii...),
-		speeds: append([]float64(nil), speeds...),
-		interp: interp,
-		rCore:  rCore,
-	}
+	c.radii = append(c.radii[:0], radii...)
+	c.speeds = append(c.speeds[:0], speeds...)
+	c.interp, c.rCore = interp, rCore
+	c.b, c.c, c.e = resize(c.b, n-1), resize(c.c, n-1), resize(c.e, n-1)
 	if n > 1 {
-		c.b = make([]float64, n-1)
-		c.c = make([]float64, n-1)
-		c.e = make([]float64, n-1)
 		var d []float64
 		if interp == MonotoneCubic {
-			d = pchipSlopes(c.radii, c.speeds)
+			c.work = resize(c.work, 3*n)
+			d = pchipSlopes(c.work[:n], c.work[n:2*n-1], c.work[2*n:3*n-1], c.radii, c.speeds)
 		}
 		for j := 0; j < n-1; j++ {
 			h := c.radii[j+1] - c.radii[j]
@@ -226,16 +232,21 @@ func NewNodesCurve(radii, speeds []float64, interp Interpolation, rCore float64)
 		}
 	}
 	c.coreRate = c.outer(rCore) / rCore
-	return c, nil
+	return nil
+}
+
+// resize returns s with length n, reallocated only when its capacity is short.
+func resize(s []float64, n int) []float64 {
+	if cap(s) < n {
+		return make([]float64, n)
+	}
+	return s[:n]
 }
 
 // pchipSlopes returns the node slopes of the monotone cubic (see MonotoneCubic) for at
-// least two nodes.
-func pchipSlopes(x, y []float64) []float64 {
+// least two nodes, in d (length n), with h and m (length n−1) as scratch.
+func pchipSlopes(d, h, m, x, y []float64) []float64 {
 	n := len(x)
-	d := make([]float64, n)
-	h := make([]float64, n-1)
-	m := make([]float64, n-1)
 	for k := 0; k < n-1; k++ {
 		h[k] = x[k+1] - x[k]
 		m[k] = (y[k+1] - y[k]) / h[k]

@@ -43,6 +43,7 @@ type MapData struct {
 type FaceOnPlot struct {
 	*plot.Plot
 	grid GalaxyGrid // the polar grid added to Plot
+	key  *Key       // the legend added to Plot
 }
 
 // Draw draws the map onto c with equal kpc per unit length on both axes.
@@ -86,6 +87,10 @@ func equalAspect(p *plot.Plot, c draw.Canvas) {
 // sources coloured by their most probable arm with their distance ranges
 // along the line of sight, optional motion arrows, the Sun and the centre,
 // and a legend. Map coordinates are x = −R sin β, y = −R cos β (Polar.XY).
+// The grid's spokes are Galactocentric azimuths β (labelled at the map's
+// edge, β = 0° toward the Sun), which the legend says; those labels and the
+// arms' names keep clear of the legend, and the names of the sources' marks
+// and arrows where they can.
 //
 // It returns an error for a non-positive R0, for sources whose membership
 // slice is longer than the arms plus the field, or whose TiedArm names no
@@ -146,6 +151,22 @@ func FaceOnMap(d MapData) (*FaceOnPlot, error) {
 	grid.Step = step
 	grid.RMax = ext * 2 // the circles fill the corners of a widened map
 
+	key := &Key{Pos: d.KeyPos, FontSize: base * 0.8}
+	clearOfKey := func(c draw.Canvas) []vg.Rectangle { return []vg.Rectangle{key.box(c)} }
+	grid.keepClear = clearOfKey
+	bands.keepClear = clearOfKey
+	bands.markRadius = marks.radius()
+	for _, src := range d.Sources {
+		if src.At.finite() {
+			x, y := src.At.XY()
+			bands.avoid = append(bands.avoid, [2]float64{x, y})
+		}
+		if d.MotionScale > 0 {
+			if _, _, x1, y1, ok := arrows.tip(src); ok {
+				bands.avoid = append(bands.avoid, [2]float64{x1, y1})
+			}
+		}
+	}
 	p.Add(grid, bands, marks)
 	if d.MotionScale > 0 {
 		p.Add(arrows)
@@ -154,7 +175,6 @@ func FaceOnMap(d MapData) (*FaceOnPlot, error) {
 	p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = -ext, ext, -ext, ext
 	p.X.Padding, p.Y.Padding = 0, 0
 
-	key := &Key{Pos: d.KeyPos, FontSize: base * 0.8}
 	for i, a := range d.Arms {
 		if a.Name != "" {
 			key.Add(a.Name, armThumb(cols[i], bands.BandAlpha))
@@ -170,8 +190,12 @@ func FaceOnMap(d MapData) (*FaceOnPlot, error) {
 	key.Add("distance 16–84%", lineThumb(draw.LineStyle{Color: withAlpha(inkColor, 0.6), Width: 0.9}))
 	key.Add("Sun", markThumb(func(c draw.Canvas, pt vg.Point) { sunMark(c, pt, Landmarks{}.size()) }))
 	key.Add("Galactic centre", markThumb(func(c draw.Canvas, pt vg.Point) { centreMark(c, pt, Landmarks{}.size()) }))
+	if grid.spokes() > 0 {
+		key.Add("spokes: Galactocentric azimuth β", lineThumb(grid.line()))
+		key.Add("   (β = 0° toward the Sun, not longitude)")
+	}
 	p.Add(key)
-	return &FaceOnPlot{Plot: p, grid: grid}, nil
+	return &FaceOnPlot{Plot: p, grid: grid, key: key}, nil
 }
 
 // checkSources checks every source's membership slice and tie against the

@@ -130,6 +130,10 @@ type GalaxyGrid struct {
 	Line draw.LineStyle
 	// FontSize is the labels' size (0: 7 pt).
 	FontSize vg.Length
+
+	// keepClear returns the rectangles of the data canvas the labels stay out of,
+	// such as the legend's box; it may be nil.
+	keepClear func(c draw.Canvas) []vg.Rectangle
 }
 
 func (g GalaxyGrid) step() float64 {
@@ -222,9 +226,15 @@ func (g GalaxyGrid) Plot(c draw.Canvas, p *plot.Plot) {
 		}
 	}
 	// Azimuths just inside the outermost circle or the data area's edge,
-	// whichever comes first along the spoke.
+	// whichever comes first along the spoke, wholly inside the data area and
+	// clear of the legend. The spoke toward the Sun says what the angles are.
+	var clear []vg.Rectangle
+	if g.keepClear != nil {
+		clear = g.keepClear(c)
+	}
 	o := vg.Point{X: trX(0), Y: trY(0)}
 	rc := float64(trX(rmax) - trX(0))
+	sty := textStyle(fs, grey, draw.XCenter, draw.YCenter)
 	for i := range ns {
 		b := 2 * math.Pi * float64(i) / float64(ns)
 		deg := math.Round(b * 180 / math.Pi)
@@ -233,6 +243,10 @@ func (g GalaxyGrid) Plot(c draw.Canvas, p *plot.Plot) {
 		}
 		if deg == 180 {
 			continue // would sit on the radius labels
+		}
+		label := minusSign(fmt.Sprintf("%g°", deg))
+		if deg == 0 {
+			label = "β = 0°"
 		}
 		ix, iy := inwardUnit(b)
 		ux, uy := -ix, -iy // outward
@@ -248,13 +262,17 @@ func (g GalaxyGrid) Plot(c draw.Canvas, p *plot.Plot) {
 			t = math.Min(t, float64(c.Min.Y-o.Y)/uy)
 		}
 		t -= float64(fs) * 1.3
-		if t <= float64(fs) {
+		var pt vg.Point
+		for ; t > float64(fs); t -= float64(fs) * 0.5 {
+			pt = vg.Point{X: o.X + vg.Length(t*ux), Y: o.Y + vg.Length(t*uy)}
+			if contains(c.Rectangle, textBox(sty, pt, label)) {
+				break
+			}
+		}
+		if t <= float64(fs) || overlapsAny(textBox(sty, pt, label), clear) {
 			continue
 		}
-		pt := vg.Point{X: o.X + vg.Length(t*ux), Y: o.Y + vg.Length(t*uy)}
-		if c.Contains(pt) {
-			fillTextHalo(c, textStyle(fs, grey, draw.XCenter, draw.YCenter), pt, minusSign(fmt.Sprintf("%g°", deg)))
-		}
+		fillTextHalo(c, sty, pt, label)
 	}
 }
 
@@ -269,6 +287,14 @@ type ArmBands struct {
 	LineWidth vg.Length
 	// FontSize is the size of the names (0: 10 pt).
 	FontSize vg.Length
+
+	// avoid holds map points (x, y in kpc) that the names keep clear of, such as
+	// the sources' marks and the tips of their arrows; markRadius is their size.
+	avoid      [][2]float64
+	markRadius vg.Length
+	// keepClear returns the rectangles of the data canvas the names stay out of,
+	// such as the legend's box; it may be nil.
+	keepClear func(c draw.Canvas) []vg.Rectangle
 }
 
 func (a ArmBands) colors() []color.Color {
@@ -331,16 +357,29 @@ func (a ArmBands) Plot(c draw.Canvas, p *plot.Plot) {
 			c.StrokeLines(draw.LineStyle{Color: cols[i], Width: lw}, c.ClipLinesXY(centre)...)
 		}
 	}
+	var taken []vg.Rectangle
+	if a.keepClear != nil {
+		taken = a.keepClear(c)
+	}
+	marks := make([]vg.Point, 0, len(a.avoid))
+	for _, q := range a.avoid {
+		if finite(q[0], q[1]) {
+			marks = append(marks, vg.Point{X: trX(q[0]), Y: trY(q[1])})
+		}
+	}
 	for i, t := range a.Arms {
-		if pt, sty, ok := a.label(c, trX, trY, i, t, cols[i]); ok {
+		if pt, sty, ok := a.label(c, trX, trY, t, cols[i], marks, taken); ok {
 			fillTextHalo(c, sty, pt, t.Name)
+			taken = append(taken, textBox(sty, pt, t.Name))
 		}
 	}
 }
 
-// label returns where and how arm i's name is written: just beyond the
-// chosen end of the centre line, continuing its direction.
-func (a ArmBands) label(c draw.Canvas, trX, trY func(float64) vg.Length, i int, t ArmTrack, col color.Color) (vg.Point, text.Style, bool) {
+// label returns where and how an arm's name is written: just beyond the chosen end of
+// the centre line, continuing its direction, or else beyond the other end or beside
+// either, whichever place covers the fewest marks and none of the taken rectangles
+// (the legend, names already written) and lies inside the canvas.
+func (a ArmBands) label(c draw.Canvas, trX, trY func(float64) vg.Length, t ArmTrack, col color.Color, marks []vg.Point, taken []vg.Rectangle) (vg.Point, text.Style, bool) {
 	var pts []vg.Point
 	var rs []float64
 	for _, q := range t.Centre {
@@ -359,30 +398,95 @@ func (a ArmBands) label(c draw.Canvas, trX, trY func(float64) vg.Length, i int, 
 			pts[l], pts[r] = pts[r], pts[l]
 		}
 	}
-	// Walk back from the end to the last point inside the canvas.
-	end := len(pts) - 1
-	for end > 0 && !c.Contains(pts[end]) {
-		end--
-	}
-	if !c.Contains(pts[end]) {
-		return vg.Point{}, text.Style{}, false
-	}
-	// Direction from a point a few points' worth of path before the end.
-	ux, uy := 0.0, 1.0
-	for j := end - 1; j >= 0; j-- {
-		dx, dy := float64(pts[end].X-pts[j].X), float64(pts[end].Y-pts[j].Y)
-		if d := math.Hypot(dx, dy); d > 6 {
-			ux, uy = dx/d, dy/d
-			break
-		}
-	}
 	fs := a.FontSize
 	if fs <= 0 {
 		fs = 10
 	}
-	sty := textStyle(fs, mix(col, color.Black, 0.25), draw.XAlignment(-0.5+0.5*ux), draw.YAlignment(-0.5+0.5*uy))
-	off := fs * 0.35
-	return vg.Point{X: pts[end].X + off*vg.Length(ux), Y: pts[end].Y + off*vg.Length(uy)}, sty, true
+	textCol := mix(col, color.Black, 0.25)
+	r := a.markRadius
+	if r <= 0 {
+		r = 3
+	}
+	// The chosen end, then (unless the end was chosen explicitly) the other.
+	ends := [][]vg.Point{pts}
+	if t.LabelAt == LabelOuterEnd {
+		rev := make([]vg.Point, len(pts))
+		for j, q := range pts {
+			rev[len(pts)-1-j] = q
+		}
+		ends = append(ends, rev)
+	}
+	var best vg.Point
+	var bestSty text.Style
+	bestCost := math.Inf(1)
+	for e, path := range ends {
+		// Walk back from the end to the last point inside the canvas.
+		end := len(path) - 1
+		for end > 0 && !c.Contains(path[end]) {
+			end--
+		}
+		if !c.Contains(path[end]) {
+			continue
+		}
+		// Direction from a point a few points' worth of path before the end.
+		ux, uy := 0.0, 1.0
+		for j := end - 1; j >= 0; j-- {
+			dx, dy := float64(path[end].X-path[j].X), float64(path[end].Y-path[j].Y)
+			if d := math.Hypot(dx, dy); d > 6 {
+				ux, uy = dx/d, dy/d
+				break
+			}
+		}
+		sty := textStyle(fs, textCol, draw.XAlignment(-0.5+0.5*ux), draw.YAlignment(-0.5+0.5*uy))
+		for k, shift := range [][2]float64{{0.35, 0}, {1.2, 0}, {0.35, 1.4}, {0.35, -1.4}, {2.2, 0}, {1.2, 2.4}, {1.2, -2.4}} {
+			along, side := fs*vg.Length(shift[0]), fs*vg.Length(shift[1])
+			pt := vg.Point{
+				X: path[end].X + along*vg.Length(ux) - side*vg.Length(uy),
+				Y: path[end].Y + along*vg.Length(uy) + side*vg.Length(ux),
+			}
+			box := textBox(sty, pt, t.Name)
+			cost := 0.01*float64(k) + 0.05*float64(e)
+			if !contains(c.Rectangle, box) {
+				cost += 1000
+			}
+			if overlapsAny(box, taken) {
+				cost += 1000
+			}
+			grown := vg.Rectangle{Min: vg.Point{X: box.Min.X - r, Y: box.Min.Y - r}, Max: vg.Point{X: box.Max.X + r, Y: box.Max.Y + r}}
+			for _, m := range marks {
+				if m.X >= grown.Min.X && m.X <= grown.Max.X && m.Y >= grown.Min.Y && m.Y <= grown.Max.Y {
+					cost++
+				}
+			}
+			if cost < bestCost {
+				best, bestSty, bestCost = pt, sty, cost
+			}
+		}
+	}
+	if math.IsInf(bestCost, 1) {
+		return vg.Point{}, text.Style{}, false
+	}
+	return best, bestSty, true
+}
+
+// textBox returns the rectangle text txt of style sty takes when drawn at pt.
+func textBox(sty text.Style, pt vg.Point, txt string) vg.Rectangle {
+	return sty.Rectangle(txt).Add(pt)
+}
+
+// contains reports whether the rectangle outer holds the rectangle r.
+func contains(outer, r vg.Rectangle) bool {
+	return r.Min.X >= outer.Min.X && r.Min.Y >= outer.Min.Y && r.Max.X <= outer.Max.X && r.Max.Y <= outer.Max.Y
+}
+
+// overlapsAny reports whether r overlaps any of the rectangles rs.
+func overlapsAny(r vg.Rectangle, rs []vg.Rectangle) bool {
+	for _, q := range rs {
+		if r.Min.X < q.Max.X && q.Min.X < r.Max.X && r.Min.Y < q.Max.Y && q.Min.Y < r.Max.Y {
+			return true
+		}
+	}
+	return false
 }
 
 // Thumbnail implements plot.Thumbnailer with the first arm's style.

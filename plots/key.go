@@ -72,11 +72,8 @@ func (k *Key) fontSize() vg.Length {
 func (k *Key) thumbWidth() vg.Length { return k.fontSize() * 2 }
 func (k *Key) rowHeight() vg.Length  { return k.fontSize() * 1.45 }
 
-// Plot implements plot.Plotter.
-func (k *Key) Plot(c draw.Canvas, _ *plot.Plot) {
-	if len(k.Entries) == 0 {
-		return
-	}
+// box returns the rectangle the key takes on the data canvas c.
+func (k *Key) box(c draw.Canvas) vg.Rectangle {
 	fs := k.fontSize()
 	inset := k.Inset
 	if inset == 0 {
@@ -94,7 +91,17 @@ func (k *Key) Plot(c draw.Canvas, _ *plot.Plot) {
 	default:
 		x0, y1 = c.Max.X-inset-w, c.Max.Y-inset
 	}
-	box := vg.Rectangle{Min: vg.Point{X: x0, Y: y1 - h}, Max: vg.Point{X: x0 + w, Y: y1}}
+	return vg.Rectangle{Min: vg.Point{X: x0, Y: y1 - h}, Max: vg.Point{X: x0 + w, Y: y1}}
+}
+
+// Plot implements plot.Plotter.
+func (k *Key) Plot(c draw.Canvas, _ *plot.Plot) {
+	if len(k.Entries) == 0 {
+		return
+	}
+	fs := k.fontSize()
+	box := k.box(c)
+	x0, y1 := box.Min.X, box.Max.Y
 	c.SetColor(color.NRGBA{R: 255, G: 255, B: 255, A: 235})
 	c.Fill(box.Path())
 	c.SetLineStyle(draw.LineStyle{Color: color.RGBA{R: 0xB0, G: 0xB0, B: 0xB0, A: 0xFF}, Width: 0.5})

@@ -335,11 +335,41 @@ func (s SunPoint) Plot(c draw.Canvas, p *plot.Plot) {
 	}
 }
 
+// thetaRange returns the range of Θ the figure shows, km/s: the sources' speeds and their
+// bars, the Sun's point, and the curve and its bands at radii outside the core (all radii
+// when none is). It is empty (lo > hi) when there is nothing finite.
+func (d CurveData) thetaRange() (lo, hi float64) {
+	var r rangeXY
+	_, _, y0, y1 := CurvePoints{Sources: d.Sources}.DataRange()
+	r.add(0, y0)
+	r.add(0, y1)
+	_, _, y0, y1 = SunPoint{R0: d.R0, Theta0: d.Theta0, R0Err: d.R0Err, Theta0Err: d.Theta0Err}.DataRange()
+	r.add(0, y0)
+	r.add(0, y1)
+	outside := false
+	for _, x := range d.R {
+		outside = outside || x >= d.RCore
+	}
+	for i, x := range d.R {
+		if outside && x < d.RCore {
+			continue
+		}
+		for _, ys := range [][]float64{d.Median, d.Lo68, d.Hi68, d.Lo95, d.Hi95} {
+			if ys != nil {
+				r.add(x, ys[i])
+			}
+		}
+	}
+	_, _, lo, hi = r.get()
+	return lo, hi
+}
+
 // RotationCurvePlot draws the rotation curve Θ(R): the posterior median with
 // its 68% and 95% credible bands, the Sun's point (R0, Θ0), each source's
 // implied circular speed with its intervals coloured by its most probable
 // arm, and the core and inner regions shaded lightly. R is in kpc from 0,
-// Θ in km/s. Save the plot with the package function Save.
+// Θ in km/s over the range of the data, the solid-body rise inside the core
+// running in from below. Save the plot with the package function Save.
 //
 // It returns an error when the curve's arrays differ in length from R, or a
 // source's membership does not match the arms.
@@ -432,9 +462,14 @@ func RotationCurvePlot(d CurveData) (*plot.Plot, error) {
 	}
 	p.Add(key)
 
-	// Axes: R from 0; Θ padded a little beyond the data.
+	// Axes: R from 0; Θ spanning the data, padded a little: the sources with their
+	// bars, the Sun's point, and the curve and its bands outside the solid-body core,
+	// whose rise from zero would otherwise take most of the height.
 	p.X.Min = 0
-	if !(p.Y.Max > p.Y.Min) {
+	if y0, y1 := d.thetaRange(); y1 > y0 {
+		pad := 0.06 * (y1 - y0)
+		p.Y.Min, p.Y.Max = y0-pad, y1+pad
+	} else if !(p.Y.Max > p.Y.Min) {
 		p.Y.Min, p.Y.Max = 0, 300
 	} else {
 		pad := 0.06 * (p.Y.Max - p.Y.Min)

@@ -132,3 +132,32 @@ func TestFiniteRuns(t *testing.T) {
 		}
 	}
 }
+
+// TestRotationAxisStartsNearData checks that the Θ axis spans the sources, the Sun's point
+// and the curve outside the solid-body core, and not the core's rise from zero.
+func TestRotationAxisStartsNearData(t *testing.T) {
+	d := testCurve()
+	p, err := RotationCurvePlot(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, s := range d.Sources {
+		lo, hi = math.Min(lo, s.ThetaLo), math.Max(hi, s.ThetaHi)
+	}
+	for i, r := range d.R {
+		if r >= d.RCore {
+			lo, hi = math.Min(lo, d.Lo95[i]), math.Max(hi, d.Hi95[i])
+		}
+	}
+	if p.Y.Min > lo || p.Y.Max < hi {
+		t.Errorf("Θ axis %g..%g misses the data %g..%g", p.Y.Min, p.Y.Max, lo, hi)
+	}
+	// 6% of the data's span on either side (the figure's padding), no more.
+	if pad := 0.06 * (hi - lo); p.Y.Min < lo-pad-1e-9 || p.Y.Max > hi+pad+1e-9 {
+		t.Errorf("Θ axis %g..%g reaches beyond the padded data %g..%g", p.Y.Min, p.Y.Max, lo-pad, hi+pad)
+	}
+	if p.Y.Min < 100 {
+		t.Errorf("Θ axis starts at %g km/s: the core's rise from zero takes the height", p.Y.Min)
+	}
+}

@@ -13,9 +13,9 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/mirabilis-astro/mirabilis/internal/mocktest"
 	"github.com/mirabilis-astro/mirabilis/model/config"
 	"github.com/mirabilis-astro/mirabilis/model/fit"
-	"github.com/mirabilis-astro/mirabilis/model/mock"
 	"github.com/mirabilis-astro/mirabilis/plots"
 )
 
@@ -43,16 +43,6 @@ seed = 5
 `
 )
 
-// readTestFile returns a file of testdata/mock with text appended.
-func readTestFile(t *testing.T, name, extra string) []byte {
-	t.Helper()
-	data, err := os.ReadFile(filepath.Join("..", "..", "testdata", "mock", name))
-	if err != nil {
-		t.Fatal(err)
-	}
-	return append(data, extra...)
-}
-
 // TestFiguresOfSmallFit runs a short fit of a mock catalog and draws its figures: all six
 // must be PNG files, the map and the rotation curve of their intended sizes, and the map
 // must show both arms' colours.
@@ -61,25 +51,7 @@ func TestFiguresOfSmallFit(t *testing.T) {
 		t.Skip("runs a short fit")
 	}
 	dir := t.TempDir()
-	m, err := mock.Parse(readTestFile(t, "two-arms.toml", figTestSurvey), "galaxy.toml", dir)
-	if err != nil {
-		t.Fatal(err)
-	}
-	spec, err := fit.SpecFromConfig(m.Config)
-	if err != nil {
-		t.Fatal(err)
-	}
-	data, _, err := m.Render(spec, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := os.WriteFile(filepath.Join(dir, "sources.csv"), data, 0o644); err != nil {
-		t.Fatal(err)
-	}
-	cfgPath := filepath.Join(dir, "fit.toml")
-	if err := os.WriteFile(cfgPath, readTestFile(t, "two-arms-fit.toml", figTestSampler), 0o644); err != nil {
-		t.Fatal(err)
-	}
+	cfgPath, _ := mocktest.Catalog(t, dir, figTestSurvey, figTestSampler, fit.SpecFromConfig)
 	cfg, err := config.Load(cfgPath)
 	if err != nil {
 		t.Fatal(err)

@@ -66,6 +66,21 @@ func WriteWith(path string, write func(w io.Writer) error) (err error) {
 	return SyncDir(dir)
 }
 
+// RemoveTemps removes the temporary files that writes to dir interrupted by a crash or
+// kill -9 left behind. Call it only while no one else writes in dir.
+func RemoveTemps(dir string) error {
+	temps, err := filepath.Glob(filepath.Join(dir, ".*.tmp-*"))
+	if err != nil {
+		return err
+	}
+	for _, t := range temps {
+		if err := os.Remove(t); err != nil && !errors.Is(err, os.ErrNotExist) {
+			return err
+		}
+	}
+	return nil
+}
+
 // SyncDir forces the directory entries of dir (new names, renames) to stable storage.
 // File systems that cannot sync a directory are not an error.
 func SyncDir(dir string) error {

@@ -102,3 +102,17 @@ func TestCreateAndDirModes(t *testing.T) {
 		}
 	}
 }
+
+func TestRemoveTemps(t *testing.T) {
+	dir := t.TempDir()
+	keep := filepath.Join(dir, "checkpoint.bin")
+	os.WriteFile(keep, []byte("k"), 0o644)
+	os.WriteFile(filepath.Join(dir, ".checkpoint.bin.tmp-123"), []byte("half"), 0o644)
+	if err := RemoveTemps(dir); err != nil {
+		t.Fatal(err)
+	}
+	entries, _ := os.ReadDir(dir)
+	if len(entries) != 1 || entries[0].Name() != "checkpoint.bin" {
+		t.Errorf("left %v, want only checkpoint.bin", entries)
+	}
+}

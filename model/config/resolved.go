@@ -4,13 +4,14 @@ import (
 	"crypto/sha256"
 	"encoding/hex"
 	"fmt"
-	"github.com/mirabilis-astro/mirabilis/model"
-	"github.com/mirabilis-astro/mirabilis/model/param"
 	"math"
 	"regexp"
 	"strconv"
 	"strings"
 	"unicode/utf8"
+
+	"github.com/mirabilis-astro/mirabilis/model"
+	"github.com/mirabilis-astro/mirabilis/model/param"
 )
 
 // Resolved returns the configuration as TOML with every default written out

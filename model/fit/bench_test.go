@@ -2,6 +2,7 @@ package fit
 
 import (
 	"os"
+	"runtime"
 	"testing"
 
 	"github.com/mirabilis-astro/mirabilis/model"
@@ -9,6 +10,8 @@ import (
 	"github.com/mirabilis-astro/mirabilis/model/config"
 )
 
+// BenchmarkDemoLogDensity evaluates the log posterior of the demo's catalog at its starting
+// point, on one thread; ns/node is wall time, cpu-ns/node the thread's CPU time per node.
 func BenchmarkDemoLogDensity(b *testing.B) {
 	dir := os.Getenv("MIRABILIS_BENCH_DIR")
 	if dir == "" {
@@ -36,8 +39,18 @@ func BenchmarkDemoLogDensity(b *testing.B) {
 		b.Fatal(err)
 	}
 	b.Logf("nodes: median %d total %d", st.MedianNodes, st.TotalNodes)
+	runtime.LockOSThread()
+	defer runtime.UnlockOSThread()
+	b.ReportAllocs()
 	b.ResetTimer()
+	cpu0, cpuOK := threadCPU()
 	for range b.N {
 		job.Post.LogDensity(x)
+	}
+	cpu1, _ := threadCPU()
+	b.StopTimer()
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(st.TotalNodes), "ns/node")
+	if cpuOK {
+		b.ReportMetric(float64((cpu1-cpu0).Nanoseconds())/float64(b.N)/float64(st.TotalNodes), "cpu-ns/node")
 	}
 }

@@ -13,17 +13,11 @@ import (
 	"syscall"
 	"testing"
 
+	"github.com/mirabilis-astro/mirabilis/internal/mocktest"
 	"github.com/mirabilis-astro/mirabilis/mcmc"
 	"github.com/mirabilis-astro/mirabilis/model/catalog"
 	"github.com/mirabilis-astro/mirabilis/model/config"
 	"github.com/mirabilis-astro/mirabilis/model/mock"
-)
-
-// The two-armed test galaxy of testdata/mock: its fixed parameters are the mock's truth,
-// and two-arms-fit.toml fits it with broad priors.
-const (
-	testGalaxy    = "../../testdata/mock/two-arms.toml"
-	testGalaxyFit = "../../testdata/mock/two-arms-fit.toml"
 )
 
 // surveyOf is the [survey] table of the tests' mocks, drawing n sources.
@@ -50,35 +44,7 @@ missing_share = 0.05
 // mock.
 func setUp(t *testing.T, n int, extra string) (string, *mock.Model) {
 	t.Helper()
-	dir := t.TempDir()
-	desc, err := os.ReadFile(testGalaxy)
-	if err != nil {
-		t.Fatal(err)
-	}
-	m, err := mock.Parse(append(desc, surveyOf(n)...), "galaxy.toml", dir)
-	if err != nil {
-		t.Fatal(err)
-	}
-	spec, err := SpecFromConfig(m.Config)
-	if err != nil {
-		t.Fatal(err)
-	}
-	data, _, err := m.Render(spec, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := os.WriteFile(filepath.Join(dir, "sources.csv"), data, 0o644); err != nil {
-		t.Fatal(err)
-	}
-	body, err := os.ReadFile(testGalaxyFit)
-	if err != nil {
-		t.Fatal(err)
-	}
-	path := filepath.Join(dir, "fit.toml")
-	if err := os.WriteFile(path, append(body, extra...), 0o644); err != nil {
-		t.Fatal(err)
-	}
-	return path, m
+	return mocktest.Catalog(t, t.TempDir(), surveyOf(n), extra, SpecFromConfig)
 }
 
 func load(t *testing.T, path string) *config.Config {

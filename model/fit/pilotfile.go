@@ -100,6 +100,18 @@ func readPilot(path string, names []string) (*PilotResult, error) {
 	if err := json.Unmarshal(data, &f); err != nil {
 		return nil, fmt.Errorf("%s: %w", path, err)
 	}
+	if f.Coordinates == nil && f.Pilots == nil {
+		// Written by an earlier version, with Go's field names and unnamed arrays.
+		p := &PilotResult{}
+		if err := json.Unmarshal(data, p); err != nil {
+			return nil, fmt.Errorf("%s: %w", path, err)
+		}
+		if len(p.MAP) != len(names) {
+			return nil, fmt.Errorf("%s: %d coordinates, the model has %d", path, len(p.MAP), len(names))
+		}
+		p.Names = names
+		return p, nil
+	}
 	p := &PilotResult{Names: names, MAPLogDensity: f.MAPLogDensity, MAPConverged: f.MAPConverged,
 		Inner: f.Inner, Excluded: f.Excluded}
 	var got []string

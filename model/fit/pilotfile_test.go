@@ -67,3 +67,22 @@ func TestPilotFile(t *testing.T) {
 		t.Errorf("pilot.json of another model: %v", err)
 	}
 }
+
+// TestPilotFileEarlierForm checks that a pilot.json in the earlier form, with Go's field
+// names, is still read, so that runs made before keep resuming.
+func TestPilotFileEarlierForm(t *testing.T) {
+	path := filepath.Join(t.TempDir(), PilotFile)
+	os.WriteFile(path, []byte(`{"MAP":[8.2,13],"MAPLogDensity":-10,"MAPConverged":true,"Spread":[0.1,null],
+		"Pilots":[[8.2,13]],"Stats":{"MinNodes":1,"MedianNodes":2,"MaxNodes":3,"TotalNodes":6,"Unconverged":null,"MaxError":1e-5},
+		"Inner":["s1"],"Excluded":null}`), 0o644)
+	p, err := readPilot(path, []string{"R0", "Corvid_pitch"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if p.MAP[1] != 13 || p.Stats.MaxNodes != 3 || p.Inner[0] != "s1" || p.Names[0] != "R0" {
+		t.Errorf("read %+v", p)
+	}
+	if _, err := readPilot(path, []string{"R0"}); err == nil {
+		t.Error("an earlier pilot.json of another model was read")
+	}
+}

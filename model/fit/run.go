@@ -256,6 +256,10 @@ func claimLocked(dir string, cfg *config.Config, catHash string, refineUntil int
 					return false, nil, fmt.Errorf("run directory %s: the run is finished and has no checkpoint to continue from", dir)
 				}
 			}
+			// Writes that a killed fit left half done are of no use.
+			if err := atomicfile.RemoveTemps(dir); err != nil {
+				return false, nil, err
+			}
 			return true, nil, writeConfig(dir, cfg)
 		case opts.Force:
 			if err := os.RemoveAll(dir); err != nil {

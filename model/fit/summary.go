@@ -12,6 +12,8 @@ import (
 	"strings"
 	"text/tabwriter"
 
+	"gonum.org/v1/gonum/stat"
+
 	"github.com/mirabilis-astro/mirabilis/internal/atomicfile"
 	"github.com/mirabilis-astro/mirabilis/mcmc"
 	"github.com/mirabilis-astro/mirabilis/model"
@@ -328,16 +330,9 @@ func describe(name string, x []float64) Quantity {
 	slices.Sort(v)
 	qs := mcmc.Quantiles([]float64{0.5, 0.16, 0.84, 0.025, 0.975}, v, nil)
 	q.Median, q.Lo68, q.Hi68, q.Lo95, q.Hi95 = qs[0], qs[1], qs[2], qs[3], qs[4]
-	var sum, sum2 float64
-	for _, a := range v {
-		sum += a
-	}
-	q.Mean = sum / float64(len(v))
-	for _, a := range v {
-		sum2 += (a - q.Mean) * (a - q.Mean)
-	}
+	q.Mean = v[0]
 	if len(v) > 1 {
-		q.SD = math.Sqrt(sum2 / float64(len(v)-1))
+		q.Mean, q.SD = stat.MeanStdDev(v, nil)
 	}
 	return q
 }
@@ -422,22 +417,16 @@ func SourceResults(job *Job, draws []*model.Params, median *model.Params) []Sour
 	return out
 }
 
+// meanSD returns the mean and the standard deviation (divisor N − 1) of x: NaN for what
+// too few values leave undefined.
 func meanSD(x []float64) (float64, float64) {
-	if len(x) == 0 {
+	switch len(x) {
+	case 0:
 		return math.NaN(), math.NaN()
+	case 1:
+		return x[0], math.NaN()
 	}
-	var s, s2 float64
-	for _, v := range x {
-		s += v
-	}
-	m := s / float64(len(x))
-	for _, v := range x {
-		s2 += (v - m) * (v - m)
-	}
-	if len(x) < 2 {
-		return m, math.NaN()
-	}
-	return m, math.Sqrt(s2 / float64(len(x)-1))
+	return stat.MeanStdDev(x, nil)
 }
 
 // Text renders the summary for reading.

@@ -25,17 +25,20 @@ package mock
 
 import (
 	"bytes"
+	"errors"
 	"fmt"
 	"math"
 	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"reflect"
 	"regexp"
 	"strconv"
 	"strings"
 
 	toml "github.com/pelletier/go-toml/v2"
 
+	"github.com/mirabilis-astro/mirabilis/internal/spelling"
 	"github.com/mirabilis-astro/mirabilis/model"
 	"github.com/mirabilis-astro/mirabilis/model/catalog"
 	"github.com/mirabilis-astro/mirabilis/model/config"
@@ -124,10 +127,27 @@ func Parse(data []byte, name, baseDir string) (*Model, error) {
 		var sm *toml.StrictMissingError
 		switch {
 		case asError(err, &sm):
-			return nil, fmt.Errorf("%s: [survey]: %s", name, strings.TrimSpace(sm.String()))
+			var lines []string
+			for i := range sm.Errors {
+				e := &sm.Errors[i]
+				row, _ := e.Position()
+				key := e.Key()[len(e.Key())-1]
+				msg := fmt.Sprintf("%s:%d: survey.%s: unknown setting", name, row, key)
+				if s := spelling.Nearest(key, surveyKeys()); s != "" {
+					msg += fmt.Sprintf(" (did you mean %s?)", s)
+				} else {
+					msg += "; known in [survey]: " + strings.Join(surveyKeys(), ", ")
+				}
+				lines = append(lines, msg)
+			}
+			return nil, errors.New(strings.Join(lines, "\n"))
 		case asError(err, &de):
-			row, col := de.Position()
-			return nil, fmt.Errorf("%s:%d:%d: [survey]: %v", name, row, col, de)
+			row, _ := de.Position()
+			key := "survey"
+			if k := de.Key(); len(k) > 0 {
+				key = "survey." + k[len(k)-1]
+			}
+			return nil, fmt.Errorf("%s:%d: %s: %s", name, row, key, surveyTypeMessage(de))
 		}
 		return nil, fmt.Errorf("%s: [survey]: %w", name, err)
 	}
@@ -143,6 +163,41 @@ func Parse(data []byte, name, baseDir string) (*Model, error) {
 		return nil, err
 	}
 	return m, nil
+}
+
+// surveyKeys lists the settings of the [survey] table.
+func surveyKeys() []string {
+	t := reflect.TypeOf(Survey{})
+	keys := make([]string, 0, t.NumField())
+	for i := range t.NumField() {
+		if k := t.Field(i).Tag.Get("toml"); k != "" {
+			keys = append(keys, k)
+		}
+	}
+	return keys
+}
+
+var surveyTypeMismatch = regexp.MustCompile(`cannot decode TOML (\w+) into .* of type (.+)$`)
+
+// surveyTypeMessage says what a [survey] setting should have been, in the terms of the
+// document rather than of Go's types.
+func surveyTypeMessage(de *toml.DecodeError) string {
+	msg := strings.TrimPrefix(de.Error(), "toml: ")
+	m := surveyTypeMismatch.FindStringSubmatch(msg)
+	if m == nil {
+		return msg
+	}
+	want, ok := map[string]string{
+		"float64":            "a number",
+		"int":                "a whole number",
+		"uint64":             "a non-negative whole number",
+		"[2]float64":         "a list of two numbers",
+		"map[string]float64": "a table of numbers",
+	}[m[2]]
+	if !ok {
+		return msg
+	}
+	return fmt.Sprintf("expected %s, found a TOML %s", want, m[1])
 }
 
 // parseConfigAllowingMissingCatalog parses a configuration whose catalog may not exist yet
@@ -226,13 +281,19 @@ func (m *Model) checkSurvey(name string) error {
 	}
 	arms := m.Config.Arms
 	known := map[string]bool{param.FieldComponent: true}
+	names := []string{param.FieldComponent}
 	for _, a := range arms {
 		known[a.Name] = true
+		names = append(names, a.Name)
 	}
 	var given float64
 	for k, v := range s.Fractions {
 		if !known[k] {
-			return bad("fractions", "%q is neither \"field\" nor an arm of the model", k)
+			hint := ""
+			if n := spelling.Nearest(k, names); n != "" {
+				hint = fmt.Sprintf(" (did you mean %s?)", n)
+			}
+			return bad("fractions", "%q is neither \"field\" nor an arm of the model%s", k, hint)
 		}
 		if !(v >= 0) {
 			return bad("fractions", "%s = %g must not be negative", k, v)
@@ -243,10 +304,6 @@ func (m *Model) checkSurvey(name string) error {
 		return bad("fractions", "shares add up to %g, more than 1", given)
 	}
 	n := 1 + len(arms)
-	names := append([]string{param.FieldComponent}, make([]string, len(arms))...)
-	for i, a := range arms {
-		names[i+1] = a.Name
-	}
 	unnamed := 0
 	for _, nm := range names {
 		if _, ok := s.Fractions[nm]; !ok {

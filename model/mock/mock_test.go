@@ -9,6 +9,7 @@ import (
 	"github.com/mirabilis-astro/mirabilis/model"
 	"github.com/mirabilis-astro/mirabilis/model/catalog"
 	"github.com/mirabilis-astro/mirabilis/model/fit"
+	"gonum.org/v1/gonum/stat"
 )
 
 // survey is the [survey] table of the test: precise kinematics, a declination and a
@@ -131,7 +132,7 @@ func TestDrawFollowsTheModel(t *testing.T) {
 		t.Errorf("labelled share %d of %d, want 0.25", labelled, arm)
 	}
 	for k, x := range across {
-		mean, sd := meanSD(x)
+		mean, sd := stat.MeanStdDev(x, nil)
 		nn := float64(len(x))
 		if math.Abs(mean) > 4/math.Sqrt(nn) || math.Abs(sd-1) > 4/math.Sqrt(2*nn) {
 			t.Errorf("arm %d: offsets across the arm in widths have mean %.3f and sd %.3f over %d sources, want 0 and 1", k, mean, sd, len(x))
@@ -141,7 +142,7 @@ func TestDrawFollowsTheModel(t *testing.T) {
 	// km/s; the measurement errors chosen above add less than 0.2 km/s.
 	want := [3]float64{2, -3, 1}
 	for c, x := range pec {
-		mean, sd := meanSD(x)
+		mean, sd := stat.MeanStdDev(x, nil)
 		nn := float64(len(x))
 		if math.Abs(mean-want[c]) > 4*6/math.Sqrt(nn) {
 			t.Errorf("peculiar motion component %d: mean %.3f over %d sources, want %g", c, mean, len(x), want[c])
@@ -150,16 +151,4 @@ func TestDrawFollowsTheModel(t *testing.T) {
 			t.Errorf("peculiar motion component %d: sd %.3f over %d sources, want σ_vir = 6", c, sd, len(x))
 		}
 	}
-}
-
-func meanSD(x []float64) (float64, float64) {
-	var s, s2 float64
-	for _, v := range x {
-		s += v
-	}
-	m := s / float64(len(x))
-	for _, v := range x {
-		s2 += (v - m) * (v - m)
-	}
-	return m, math.Sqrt(s2 / float64(len(x)-1))
 }
