@@ -12,9 +12,9 @@ import (
 	"testing"
 	"time"
 
+	"github.com/mirabilis-astro/mirabilis/internal/mocktest"
 	"github.com/mirabilis-astro/mirabilis/model/batch"
 	"github.com/mirabilis-astro/mirabilis/model/fit"
-	"github.com/mirabilis-astro/mirabilis/model/mock"
 )
 
 // slurmRequired is the environment variable that makes the Slurm test fail, rather than
@@ -59,6 +59,19 @@ func buildProgram(t *testing.T, dir string) string {
 	return bin
 }
 
+// slurmSurvey is a small survey of the two-armed test galaxy.
+const slurmSurvey = `
+[survey]
+sources = 40
+seed = 17
+declination_range = [-35, 90]
+max_distance = 9
+min_distance = 0.5
+fractions = { field = 0.15 }
+labelled = 0.3
+missing_share = 0.1
+`
+
 // slurmSampler makes each test fit long enough to be caught running: a few thousand
 // steps of the small two-armed galaxy, checkpointed often.
 const slurmSampler = `
@@ -82,21 +95,7 @@ func TestSlurmArray(t *testing.T) {
 	}
 	bin := buildProgram(t, dir)
 
-	m, err := mock.Parse(readTestFile(t, "two-arms.toml", figTestSurvey), "galaxy.toml", dir)
-	if err != nil {
-		t.Fatal(err)
-	}
-	spec, err := fit.SpecFromConfig(m.Config)
-	if err != nil {
-		t.Fatal(err)
-	}
-	data, _, err := m.Render(spec, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	writeFile(t, filepath.Join(dir, "sources.csv"), data)
-	cfgPath := filepath.Join(dir, "fit.toml")
-	writeFile(t, cfgPath, readTestFile(t, "two-arms-fit.toml", slurmSampler))
+	cfgPath, _ := mocktest.Catalog(t, dir, slurmSurvey, slurmSampler, fit.SpecFromConfig)
 
 	array := filepath.Join(dir, "array")
 	runBin(t, bin, "batch", cfgPath, "--chains", "3", "--cpus", "1", "--time", "00:30:00", "--warning", "2m", "--out", array)
@@ -190,13 +189,6 @@ func TestSlurmArray(t *testing.T) {
 	}
 	if len(merged.Runs) != 3 {
 		t.Errorf("report merged %d runs, want 3", len(merged.Runs))
-	}
-}
-
-func writeFile(t *testing.T, path string, data []byte) {
-	t.Helper()
-	if err := os.WriteFile(path, data, 0o644); err != nil {
-		t.Fatal(err)
 	}
 }
 
