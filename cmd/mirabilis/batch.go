@@ -11,8 +11,8 @@ import (
 
 var batchCommand = &command{
 	Name:  "batch",
-	Usage: "CONFIG.toml [--chains N | --variants VARIANTS.toml] [--out DIR] [--time HH:MM:SS] [--cpus N] [--partition P] [--warning DURATION] [--force]",
-	Short: "write a Slurm job array of fits: several chains, or variants of a model",
+	Usage: "CONFIG.toml [--chains N | --variants VARIANTS.toml | --mocks N --survey SURVEY.toml] [--out DIR] [--time HH:MM:SS] [--cpus N] [--partition P] [--warning DURATION] [--force]",
+	Short: "write a Slurm job array of fits: chains, variants of a model, or a calibration set",
 	Long: `Batch plans many fits of one model as a Slurm job array, one array task per run
 directory, and writes a plain, commented batch script that you can read, edit and
 submit with sbatch. Nothing is submitted.
@@ -22,9 +22,18 @@ submit with sbatch. Nothing is submitted.
                             "mirabilis report DIR/chain-*"
   --variants VARIANTS.toml  one run per variant, each changing some settings of
                             CONFIG.toml (see below); compare them side by side
+  --mocks N --survey SURVEY.toml
+                            a calibration set: task i draws true parameters from
+                            CONFIG.toml's priors (seed s+i), simulates a mock
+                            catalog with the [survey] table of SURVEY.toml (see
+                            "mirabilis help simulate"), and fits it with
+                            CONFIG.toml; then "mirabilis report --coverage
+                            DIR/mock-*/run" says how often the truth lies in the
+                            68% and 95% intervals, with the rank statistics of
+                            simulation-based calibration
 
 Everything goes to the batch folder (--out, by default CONFIG-chains or
-CONFIG-variants next to CONFIG.toml): job.sh, each task's run directory, the
+CONFIG-variants or CONFIG-mocks next to CONFIG.toml): job.sh, each task's run directory, the
 variants' configurations under configs/, and Slurm's output files. Each task runs
 "mirabilis fit" on its run directory with as many threads as --cpus, resuming the
 run when it exists. Slurm is asked to signal each task --warning before its time
@@ -41,6 +50,8 @@ the compute nodes share.
 		var o batchOptions
 		fs.IntVar(&o.chains, "chains", 0, "`N` independent chains of the configuration")
 		fs.StringVar(&o.variants, "variants", "", "the variants file `VARIANTS.toml`: one run per variant")
+		fs.IntVar(&o.mocks, "mocks", 0, "`N` mock catalogs drawn from the priors and fitted: a calibration set")
+		fs.StringVar(&o.survey, "survey", "", "`SURVEY.toml`, whose [survey] table the mocks are drawn with")
 		fs.StringVar(&o.out, "out", "", "the batch folder `DIR` (default: next to CONFIG.toml)")
 		fs.StringVar(&o.slurm.Time, "time", "01:00:00", "each task's time limit `HH:MM:SS` (or D-HH:MM:SS)")
 		fs.IntVar(&o.slurm.CPUs, "cpus", 1, "`N` cores per task, and the fit's threads")
@@ -54,6 +65,8 @@ the compute nodes share.
 type batchOptions struct {
 	chains   int
 	variants string
+	mocks    int
+	survey   string
 	out      string
 	slurm    batch.Slurm
 	force    bool
@@ -63,11 +76,20 @@ func runBatch(env *runEnv, o *batchOptions, args []string) error {
 	if len(args) != 1 {
 		return usageErrorf("want exactly one configuration file, got %d arguments", len(args))
 	}
-	if (o.chains > 0) == (o.variants != "") {
-		return usageErrorf("give either --chains N or --variants FILE")
+	kinds := 0
+	for _, given := range []bool{o.chains != 0, o.variants != "", o.mocks != 0} {
+		if given {
+			kinds++
+		}
 	}
-	if o.chains < 0 {
-		return usageErrorf("--chains %d: want a positive number", o.chains)
+	if kinds != 1 {
+		return usageErrorf("give one of --chains N, --variants FILE or --mocks N")
+	}
+	if o.chains < 0 || o.mocks < 0 {
+		return usageErrorf("--chains and --mocks want a positive number")
+	}
+	if (o.mocks > 0) != (o.survey != "") {
+		return usageErrorf("--mocks N and --survey SURVEY.toml go together")
 	}
 	if o.slurm.CPUs < 1 {
 		return usageErrorf("--cpus %d: want a positive number", o.slurm.CPUs)
@@ -84,9 +106,16 @@ func runBatch(env *runEnv, o *batchOptions, args []string) error {
 	}
 	var plan *batch.Plan
 	var err error
-	if o.chains > 0 {
+	switch {
+	case o.chains > 0:
 		plan, err = batch.NewChains(args[0], o.out, o.chains)
-	} else {
+	case o.mocks > 0:
+		var warning string
+		plan, warning, err = batch.NewMocks(args[0], o.survey, o.out, o.mocks)
+		if warning != "" {
+			fmt.Fprintf(env.stderr, "mirabilis batch: warning: %s\n", warning)
+		}
+	default:
 		plan, err = batch.NewVariants(args[0], o.variants, o.out)
 	}
 	if err != nil {
