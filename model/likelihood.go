@@ -125,7 +125,7 @@ func (s *Source) logBase(spec *Spec, d float64) float64 {
 }
 
 // logKinematic returns the sum of the log-densities of the source's kinematic residuals at
-// distance d (kpc) under p, with the effective uncertainties of MODEL §3
+// distance d (kpc) under p, with the effective uncertainties of package model, Kinematics
 // (σ²_v,eff = σ²_v + σ²(R), σ²_μ,eff = σ²_μ + (σ(R)/(k d))²), and the prediction.
 func (s *Source) logKinematic(spec *Spec, p *Params, d float64) (float64, Prediction) {
 	pr := p.Motion.Predict(&s.Sight, d)

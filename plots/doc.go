@@ -1,6 +1,6 @@
 // Package plots draws the figures of a mirabilis fit from plain data: the
 // face-on map of the Galactic plane with arms, sources and motions; the
-// rotation curve with its credible bands; the triangle (corner) plot of the
+// rotation curve with its credible bands; the pairs plot (one- and two-dimensional marginals) of the
 // posterior; the sampler's walker traces; and the per-source arm membership.
 //
 // Every figure is composed of small plotters, each a value with a

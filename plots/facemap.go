@@ -20,6 +20,9 @@ type MapData struct {
 	Arms []ArmTrack
 	// Sources are the sources to mark.
 	Sources []MapSource
+	// Assigned are new sources placed in the fitted model (by assign), marked
+	// as rings with their names; their Prob colours them as Sources'.
+	Assigned []MapSource
 	// MotionScale is the length of the motion arrows in kpc per km/s (for
 	// instance 0.02: 50 km/s draws 1 kpc); 0 draws no arrows.
 	MotionScale float64
@@ -121,12 +124,14 @@ func FaceOnMap(d MapData) (*FaceOnPlot, error) {
 	marks := SourceMarks{Sources: d.Sources, Colors: cols}
 	arrows := MotionArrows{Sources: d.Sources, Colors: cols, Scale: d.MotionScale, RefSpeed: d.RefSpeed, FontSize: base * 0.75}
 	landmarks := Landmarks{R0: d.R0}
+	spread := CentreSpread{Arms: d.Arms, Colors: cols}
+	assigned := AssignedMarks{Sources: d.Assigned, Colors: cols, FontSize: base * 0.75}
 
 	// The extent: every drawn element, squared about the centre.
 	ext := d.Extent
 	if !(ext > 0) || math.IsInf(ext, 0) {
 		ext = d.R0
-		rangers := []plot.DataRanger{bands, marks}
+		rangers := []plot.DataRanger{bands, marks, assigned}
 		if d.MotionScale > 0 {
 			rangers = append(rangers, arrows)
 		}
@@ -167,7 +172,7 @@ func FaceOnMap(d MapData) (*FaceOnPlot, error) {
 			}
 		}
 	}
-	p.Add(grid, bands, marks)
+	p.Add(grid, bands, spread, marks, assigned)
 	if d.MotionScale > 0 {
 		p.Add(arrows)
 	}
@@ -180,7 +185,14 @@ func FaceOnMap(d MapData) (*FaceOnPlot, error) {
 			key.Add(a.Name, armThumb(cols[i], bands.BandAlpha))
 		}
 	}
+	if spread.any() {
+		key.Add("centre line, 68% of draws", spreadThumb(inkColor))
+		key.Add("± arm width (median)", bandThumb(withAlpha(inkColor, 0.16), 0.9))
+	}
 	r := marks.radius()
+	if len(d.Assigned) > 0 {
+		key.Add("new source (assign)", markThumb(func(c draw.Canvas, pt vg.Point) { assignedMark(c, pt, r, ArmColor(0)) }))
+	}
 	key.Add("field", markThumb(func(c draw.Canvas, pt vg.Point) { freeMark(c, pt, r, FieldColor, 1) }))
 	key.Add("free source (opacity: P)", markThumb(func(c draw.Canvas, pt vg.Point) {
 		freeMark(c, vg.Point{X: pt.X - r*1.6, Y: pt.Y}, r, ArmColor(0), 0.25)

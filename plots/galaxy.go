@@ -95,6 +95,11 @@ type ArmTrack struct {
 	// LabelAt chooses the end of the centre line that carries the name
 	// (default LabelOuterEnd).
 	LabelAt LabelPlace
+	// CentreLo and CentreHi, when given, bound the posterior spread of the
+	// centre line (for instance its 16th and 84th percentiles of radius over
+	// posterior draws at each azimuth), drawn as a deeper, narrower band than
+	// the width's.
+	CentreLo, CentreHi []Polar
 }
 
 // LabelPlace chooses where an arm's name is written.

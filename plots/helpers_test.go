@@ -133,6 +133,10 @@ func saveBoth(t *testing.T, f Figure, w, h vg.Length) {
 	if err != nil {
 		t.Fatalf("decoding PNG: %v", err)
 	}
+	// MIRABILIS_FIGURES names a folder to keep the tests' figures in, for looking at.
+	if keep := os.Getenv("MIRABILIS_FIGURES"); keep != "" {
+		os.WriteFile(filepath.Join(keep, strings.ReplaceAll(t.Name(), "/", "_")+".png"), raw, 0o644)
+	}
 	wantW := int(math.Ceil(float64(w/vg.Inch) * PNGDPI))
 	if got := img.Bounds().Dx(); got < wantW-1 || got > wantW+1 {
 		t.Errorf("PNG width %d px, want %d", got, wantW)

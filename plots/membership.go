@@ -2,6 +2,7 @@ package plots
 
 import (
 	"fmt"
+	"image"
 	"image/color"
 	"math"
 	"sort"
@@ -38,6 +39,20 @@ type MembershipData struct {
 	// MinRowHeight is the least height of a row (0: 8 pt); the rows are
 	// spread over as many columns as the height then requires.
 	MinRowHeight vg.Length
+	// CompactAbove is the number of sources beyond which the chart is drawn
+	// compact (0: 300; negative: never): one thin vertical column per
+	// source, stacked from 0 to 1 in the components' colours, the sources
+	// grouped by most probable component and named by group only.
+	CompactAbove int
+}
+
+// Compact reports whether the chart is drawn compact (see CompactAbove).
+func (m *MembershipPlot) Compact() bool {
+	lim := m.data.CompactAbove
+	if lim == 0 {
+		lim = 300
+	}
+	return lim > 0 && len(m.rows) > lim
 }
 
 // MembershipPlot is a chart of stacked horizontal bars, one per source,
@@ -127,6 +142,10 @@ func (m *MembershipPlot) Draw(c draw.Canvas) {
 	if n == 0 {
 		sty := textStyle(base, inkColor, draw.XCenter, draw.YCenter)
 		c.FillText(sty, c.Center(), "no sources")
+		return
+	}
+	if m.Compact() {
+		m.drawCompact(c, base)
 		return
 	}
 	minRow := m.data.MinRowHeight
@@ -249,9 +268,11 @@ func (m *MembershipPlot) drawKey(c draw.Canvas, fs vg.Length) vg.Length {
 		items = append(items, item{a.Name, swatch(m.colors[k])})
 	}
 	items = append(items, item{"field", swatch(FieldColor)})
-	items = append(items, item{"tied by catalog label", func(pt vg.Point) {
-		fillDiamond(c, vg.Point{X: pt.X + sw/2, Y: pt.Y}, sw*0.55, inkColor, nil, 0)
-	}})
+	if !m.Compact() {
+		items = append(items, item{"tied by catalog label", func(pt vg.Point) {
+			fillDiamond(c, vg.Point{X: pt.X + sw/2, Y: pt.Y}, sw*0.55, inkColor, nil, 0)
+		}})
+	}
 	sty := textStyle(fs, inkColor, draw.XLeft, draw.YCenter)
 	gap, inner := fs*1.4, fs*0.35
 	width := func(it item) vg.Length { return sw + inner + sty.Width(it.label) }
@@ -291,4 +312,127 @@ func (m *MembershipPlot) drawKey(c draw.Canvas, fs vg.Length) vg.Length {
 		}
 	}
 	return lh * vg.Length(len(lines))
+}
+
+// drawCompact draws every source as one thin column of the stacked chart, the
+// columns side by side in the chart's order, with each group's extent and
+// count marked beneath.
+func (m *MembershipPlot) drawCompact(c draw.Canvas, base vg.Length) {
+	nArms := len(m.data.Arms)
+	p := newPlot(base)
+	p.BackgroundColor = nil
+	n := len(m.rows)
+	p.X.Min, p.X.Max = 0, float64(n)
+	p.Y.Min, p.Y.Max = 0, 1
+	p.Y.Label.Text = "probability"
+	p.X.Label.Text = fmt.Sprintf("%d sources, grouped by most probable component and sorted by its probability", n)
+	p.X.Tick.Marker = plot.ConstantTicks(nil)
+	p.X.Label.Padding = base * 1.7 // room for the groups' names
+	p.X.Padding, p.Y.Padding = 0, 0
+	p.Y.Tick.Marker = plot.TickerFunc(func(lo, hi float64) []plot.Tick {
+		return []plot.Tick{{Value: 0, Label: "0"}, {Value: 0.25}, {Value: 0.5, Label: "0.5"}, {Value: 0.75}, {Value: 1, Label: "1"}}
+	})
+	group := func(s MemberSource) int {
+		k, _ := MostProbable(s.Prob, s.TiedArm)
+		return k
+	}
+	p.Add(compactColumns{rows: m.rows, colors: m.colors, nArms: nArms}, frame{})
+	// Group boundaries and labels under the axis.
+	type span struct{ k, lo, hi int }
+	var spans []span
+	for i, r := range m.rows {
+		k := group(r)
+		if len(spans) == 0 || spans[len(spans)-1].k != k {
+			spans = append(spans, span{k, i, i + 1})
+		} else {
+			spans[len(spans)-1].hi = i + 1
+		}
+	}
+	p.Add(groupMarks{names: m.groupNames(), spans: func() [][3]int {
+		out := make([][3]int, len(spans))
+		for i, s := range spans {
+			out[i] = [3]int{s.k, s.lo, s.hi}
+		}
+		return out
+	}(), fs: base * 0.8})
+	c = draw.Crop(c, 0, 0, base*1.6, 0)
+	p.Draw(c)
+}
+
+func (m *MembershipPlot) groupNames() []string {
+	out := []string{"field"}
+	for _, a := range m.data.Arms {
+		out = append(out, a.Name)
+	}
+	return out
+}
+
+// compactColumns draws one column per source as an image: one pixel column
+// per source, stacked bottom-up from its most probable component, then the
+// others in arm order with the field last.
+type compactColumns struct {
+	rows   []MemberSource
+	colors []color.Color
+	nArms  int
+}
+
+func (s compactColumns) Plot(c draw.Canvas, p *plot.Plot) {
+	const h = 200 // pixel rows: probabilities to 0.005
+	n := len(s.rows)
+	img := image.NewNRGBA(image.Rect(0, 0, n, h))
+	order := make([]int, 0, s.nArms+1)
+	for i, r := range s.rows {
+		y := 0.0
+		sh := shares(r, s.nArms)
+		best, _ := MostProbable(r.Prob, r.TiedArm)
+		first := s.nArms // the field's share is last in sh
+		if best > 0 {
+			first = best - 1
+		}
+		order = append(order[:0], first)
+		for k := range sh {
+			if k != first {
+				order = append(order, k)
+			}
+		}
+		for _, k := range order {
+			v := sh[k]
+			col := FieldColor
+			if k < s.nArms {
+				col = s.colors[k]
+			}
+			nc := color.NRGBAModel.Convert(col).(color.NRGBA)
+			nc.A = 0xFF
+			y0, y1 := int(math.Round(y*h)), int(math.Round(math.Min(1, y+v)*h))
+			for py := y0; py < y1; py++ {
+				img.SetNRGBA(i, h-1-py, nc)
+			}
+			y += v
+		}
+	}
+	trX, trY := p.Transforms(&c)
+	c.DrawImage(vg.Rectangle{Min: vg.Point{X: trX(0), Y: trY(0)}, Max: vg.Point{X: trX(float64(n)), Y: trY(1)}}, img)
+}
+
+// groupMarks writes each group's name and count under the chart and separates
+// the groups by lines.
+type groupMarks struct {
+	names []string
+	spans [][3]int // component, first index, one past the last
+	fs    vg.Length
+}
+
+func (g groupMarks) Plot(c draw.Canvas, p *plot.Plot) {
+	trX, _ := p.Transforms(&c)
+	sty := textStyle(g.fs, inkColor, draw.XCenter, draw.YTop)
+	for i, s := range g.spans {
+		x0, x1 := trX(float64(s[1])), trX(float64(s[2]))
+		if i > 0 {
+			c.StrokeLine2(draw.LineStyle{Color: color.White, Width: 1.2}, x0, c.Min.Y, x0, c.Max.Y)
+		}
+		label := fmt.Sprintf("%s (%d)", g.names[s[0]], s[2]-s[1])
+		if sty.Width(label) < x1-x0+g.fs*2 {
+			c.FillText(sty, vg.Point{X: (x0 + x1) / 2, Y: c.Min.Y - g.fs*0.3}, label)
+		}
+	}
 }

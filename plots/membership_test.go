@@ -96,3 +96,21 @@ func names(rows []MemberSource) []string {
 	}
 	return out
 }
+
+func TestMembershipCompact(t *testing.T) {
+	// Ten thousand sources: drawn compact, at a fixed size that does not grow with
+	// the catalog.
+	m, err := NewMembershipPlot(MembershipData{Arms: testArmList(), Sources: testMembers(10000)})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !m.Compact() {
+		t.Fatal("10000 sources not drawn compact")
+	}
+	saveBoth(t, m, 10*vg.Inch, 5*vg.Inch)
+	few, _ := NewMembershipPlot(MembershipData{Arms: testArmList(), Sources: testMembers(300)})
+	never, _ := NewMembershipPlot(MembershipData{Arms: testArmList(), Sources: testMembers(400), CompactAbove: -1})
+	if few.Compact() || never.Compact() {
+		t.Error("300 sources, or compact switched off, drawn compact")
+	}
+}

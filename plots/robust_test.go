@@ -31,7 +31,7 @@ func TestOddCanvasSizes(t *testing.T) {
 			draws[i][j] = float64((i*7+j*13)%31) + float64(j)
 		}
 	}
-	cp, err := NewCornerPlot(CornerData{Names: names, Samples: draws})
+	cp, err := NewPairsPlot(PairsData{Names: names, Samples: draws})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -43,7 +43,7 @@ func TestOddCanvasSizes(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	figs := map[string]Figure{"map": fm, "curve": rc, "corner": cp, "trace": tp, "membership": mp}
+	figs := map[string]Figure{"map": fm, "curve": rc, "pairs": cp, "trace": tp, "membership": mp}
 	for name, f := range figs {
 		for _, wh := range [][2]vg.Length{{40, 40}, {1500, 60}, {60, 1500}, {1, 1}} {
 			func() {

@@ -39,7 +39,7 @@ var (
 	_ plot.Thumbnailer = Curve{}
 	_ Figure           = (*plot.Plot)(nil)
 	_ Figure           = (*FaceOnPlot)(nil)
-	_ Figure           = (*CornerPlot)(nil)
+	_ Figure           = (*PairsPlot)(nil)
 	_ Figure           = (*TracePlot)(nil)
 	_ Figure           = (*MembershipPlot)(nil)
 )

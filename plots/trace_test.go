@@ -36,7 +36,7 @@ func testChain(steps, walkers, params int, seed uint64) [][][]float64 {
 }
 
 func TestTraceRenders(t *testing.T) {
-	tr, err := NewTracePlot(TraceData{Title: "Walkers", Names: cornerNames, Chain: testChain(400, 16, 4, 1), BurnIn: 100,
+	tr, err := NewTracePlot(TraceData{Title: "Walkers", Names: pairNames, Chain: testChain(400, 16, 4, 1), BurnIn: 100,
 		Truths: []float64{0, 0, math.NaN(), 0}})
 	if err != nil {
 		t.Fatal(err)

@@ -31,8 +31,8 @@ var figureMakers = []struct {
 }{
 	{"map.png", mapFigure},
 	{"rotation.png", rotationFigure},
-	{"triangle.png", globalsTriangle},
-	{"arms.png", armsTriangle},
+	{"pairs.png", globalsTriangle},
+	{"pairs-arms.png", armsTriangle},
 	{"trace.png", traceFigure},
 	{"membership.png", membershipFigure},
 }
@@ -124,13 +124,26 @@ func (in *figureInput) membership(i int) []float64 {
 // range along the line of sight, coloured by membership, and the peculiar motions of the
 // sources whose kinematics are all measured.
 func mapFigure(in *figureInput) (plots.Figure, vg.Length, vg.Length, error) {
+	d, err := mapData(in)
+	if err != nil {
+		return nil, 0, 0, err
+	}
+	fig, err := plots.FaceOnMap(d)
+	if err != nil {
+		return nil, 0, 0, err
+	}
+	return fig, 9 * vg.Inch, 9 * vg.Inch, nil
+}
+
+// mapData returns the face-on map's content (see mapFigure).
+func mapData(in *figureInput) (plots.MapData, error) {
 	R0 := in.median.Motion.R0()
 	lay := in.median.Layout
 	var tracks []plots.ArmTrack
 	for k, a := range lay.Arms {
 		o, err := a.Outline(R0, lay.WidthSlope, 0)
 		if err != nil {
-			return nil, 0, 0, err
+			return plots.MapData{}, err
 		}
 		tracks = append(tracks, plots.ArmTrack{Arm: in.arms[k], Centre: polars(o.Centre), Inner: polars(o.Inner), Outer: polars(o.Outer)})
 	}
@@ -167,11 +180,7 @@ func mapFigure(in *figureInput) (plots.Figure, vg.Length, vg.Length, error) {
 		Sources:     srcs,
 		MotionScale: motionScale(speeds, rMax),
 	}
-	fig, err := plots.FaceOnMap(d)
-	if err != nil {
-		return nil, 0, 0, err
-	}
-	return fig, 9 * vg.Inch, 9 * vg.Inch, nil
+	return d, nil
 }
 
 func polars(pts []arms.Point) []plots.Polar {
@@ -319,7 +328,7 @@ func (in *figureInput) triangle(title string, cols []int, label func(string) str
 	for k, j := range cols {
 		names[k] = label(c.Names[j])
 	}
-	fig, err := plots.NewCornerPlot(plots.CornerData{Title: title, Names: names, Samples: samplesAfterBurn(c, in.sum.Burn, cols)})
+	fig, err := plots.NewPairsPlot(plots.PairsData{Title: title, Names: names, Samples: samplesAfterBurn(c, in.sum.Burn, cols)})
 	if err != nil {
 		return nil, 0, 0, err
 	}
@@ -466,6 +475,9 @@ func membershipFigure(in *figureInput) (plots.Figure, vg.Length, vg.Length, erro
 	fig, err := plots.NewMembershipPlot(plots.MembershipData{Title: "Arm membership of each source", Arms: in.arms, Sources: rows})
 	if err != nil {
 		return nil, 0, 0, err
+	}
+	if fig.Compact() {
+		return fig, 10 * vg.Inch, 5 * vg.Inch, nil
 	}
 	// Rows of about 11 pt, up to 14 in high, then more columns of 4.5 in each.
 	const rowPt, overheadIn, maxHeightIn = 11.0, 1.6, 14.0

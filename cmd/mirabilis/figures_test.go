@@ -74,7 +74,7 @@ func TestFiguresOfSmallFit(t *testing.T) {
 		}
 		got = append(got, filepath.Base(p))
 	}
-	want := []string{"map.png", "rotation.png", "triangle.png", "arms.png", "trace.png", "membership.png"}
+	want := []string{"map.png", "rotation.png", "pairs.png", "pairs-arms.png", "trace.png", "membership.png"}
 	if !slices.Equal(got, want) {
 		t.Fatalf("figures %v, want %v", got, want)
 	}
@@ -119,7 +119,7 @@ func TestFiguresOfSmallFit(t *testing.T) {
 	}
 	// The triangles of the globals and of the arms both have 6 free parameters: square, with
 	// tiles of at least 1.2 in.
-	for _, name := range []string{"triangle.png", "arms.png"} {
+	for _, name := range []string{"pairs.png", "pairs-arms.png"} {
 		if img := images[name]; img != nil {
 			b := img.Bounds()
 			if b.Dx() != b.Dy() || b.Dx() < 6*1.2*plots.PNGDPI {

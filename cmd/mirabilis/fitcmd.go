@@ -52,7 +52,7 @@ Everything goes to the run directory (the configuration's output, or --out):
                   fraction and derived quantity (at most 20000 rows)
   sources.csv     each source's membership probabilities, distance (median and
                   68% interval), Galactocentric position and peculiar motion
-  figures/        face-on map, rotation curve, triangle plots, traces, memberships
+  figures/        face-on map, rotation curve, pairs plots, traces, memberships
 
 A run directory holding a finished run is not overwritten without --force. A run
 that was stopped (Ctrl-C, --time, a killed job) continues with --resume exactly as

@@ -69,6 +69,7 @@ var commands = []*command{
 	fitCommand,
 	assignCommand,
 	reportCommand,
+	plotCommand,
 	evalCommand,
 	simulateCommand,
 	checkCommand,

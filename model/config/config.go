@@ -246,8 +246,8 @@ func DefaultWidth() prior.Prior { return prior.LogUniform{Min: 0.05, Max: 1.5} }
 // Default values of the settings, documented in HelpText (the core radius's is
 // model.DefaultCoreRadius). Those of the model (inner radius, bar, softening,
 // field scale, concentration, distance range, tolerance, stretch scale) are
-// fixed by the model specification
-// (MODEL.md §3–7); ν = 4 for the Student-t errors is a common choice for
+// fixed by the model (package model,
+// Kinematics to Quadrature); ν = 4 for the Student-t errors is a common choice for
 // robust fits (Lange, Little & Taylor 1989, JASA 84, 881; from memory); the
 // sampler's bookkeeping (max steps, seed, checkpoints) is this package's choice.
 const (

@@ -135,9 +135,10 @@ func TestHelpMentionsEverySetting(t *testing.T) {
 }
 
 // TestDefaults checks the defaults filled into a minimal file against the
-// values fixed in MODEL.md (§3 R_core, R_inner, σ_bar, s_bar; §4 τ, h,
-// concentration; §5 distance range, tolerance, error model, distance prior;
-// §7 stretch scale) and the documented default priors.
+// values stated in package model (Kinematics: R_core, R_inner, σ_bar, s_bar;
+// Arms: τ, h, concentration; Likelihood and Quadrature: distance range,
+// tolerance, error model, distance prior), the stretch scale of Goodman &
+// Weare (2010) and the documented default priors.
 func TestDefaults(t *testing.T) {
 	c := load(t, "minimal.toml")
 	if c.Rotation.Curve != model.CurveLinear || c.Rotation.CoreRadius != 2 || c.Rotation.NodeRadii != nil || c.Rotation.Interpolation != "" {

@@ -125,7 +125,7 @@ type PilotResult struct {
 	Inner, Excluded []string
 }
 
-// Pilot lays out the quadratures and finds the MAP point (MODEL §5, step 3): panels are
+// Pilot lays out the quadratures and finds the MAP point (package model, Quadrature): panels are
 // built at the starting point; the MAP is found with them; the panels are rebuilt at the
 // start and the MAP, and the MAP refined; finally the panels are built at the start, the
 // MAP and ten draws around it with the expected posterior spreads (the configuration's

@@ -104,14 +104,11 @@ func NewReport(runs []*Run, burn int) (*Report, error) {
 	if len(runs) == 0 {
 		return nil, fmt.Errorf("report: no runs")
 	}
-	merged := runs[0].Chain
-	if len(runs) > 1 {
-		var err error
-		if merged, err = Merged(runs); err != nil {
-			return nil, err
-		}
+	first, err := MergeRuns(runs)
+	if err != nil {
+		return nil, err
 	}
-	first := &Run{Dir: runs[0].Dir, Manifest: runs[0].Manifest, Job: runs[0].Job, Pilot: runs[0].Pilot, Chain: merged}
+	merged := first.Chain
 	b := first.Burn(burn)
 	sum, err := first.Summary(b)
 	if err != nil {
@@ -126,9 +123,7 @@ func NewReport(runs []*Run, burn int) (*Report, error) {
 	// Within-run R̂ needs each run's own series of every quantity.
 	within := map[string]float64{}
 	for _, r := range runs {
-		one := *first
-		one.Chain = r.Chain
-		for name, series := range quantitySeries(&one, b) {
+		for name, series := range quantitySeries(r, b) {
 			within[name] = math.Max(within[name], mcmc.SplitRhat(series))
 		}
 	}

@@ -153,12 +153,13 @@ func (l *Layout) LogIntegral(logf []float64) float64 {
 // log at the nodes, as for LogIntegral: Σ_panels |K15 − G7| / I, with K15
 // and G7 the panel's 15-point Kronrod and 7-point Gauss values and I the
 // Kronrod integral (Piessens et al. 1983, QUADPACK, sec. 2.2). It is zero
-// when every value is −Inf, NaN if a value is NaN or +Inf. Compare it with
-// the tolerance the layout was built for, together with Unresolved; Refine
-// bisects the panels at fault.
+// when every value is −Inf, NaN if a value is NaN or +Inf.
 //
 // Estimate needs no evaluation beyond the nodes the caller already has, but
-// it says nothing of mass lying in the gaps between panels.
+// it says nothing of mass lying in the gaps between panels, and it
+// overstates the error of merged panels by orders of magnitude (Build merges
+// by comparison with the refined panels, not by this estimate): to learn a
+// layout's error for a new integrand, use Check.
 func (l *Layout) Estimate(logf []float64) float64 {
 	e, _ := l.scan(nil, logf)
 	var s float64
@@ -181,10 +182,11 @@ func (l *Layout) PanelEstimates(dst, logf []float64) []float64 {
 // panel where ln f has a local maximum, g_j the wider node gap beside it,
 // and it is unresolved when the parabola through ln f at nodes j−1, j, j+1
 // is so sharply curved, c·g_j² > 1, that a Gaussian of that curvature would
-// be narrower than the node gap. Build and Refine leave no such peak above a
-// tenth of Tol at their pilots; above that, K15 and G7 may agree by chance
-// while both miss part of the peak, and Estimate cannot be trusted. NaN if a
-// value is NaN or +Inf.
+// be narrower than the node gap. Refinement in Build and Refine leaves no
+// such peak above a tenth of Tol at the pilots (merging may, where the merged
+// panel still reproduces the refined ones); above that, K15 and G7 may agree
+// by chance while both miss part of the peak, and Estimate cannot be
+// trusted. NaN if a value is NaN or +Inf.
 func (l *Layout) Unresolved(logf []float64) float64 {
 	_, r := l.scan(nil, logf)
 	return r

@@ -13,8 +13,8 @@ import (
 	"gonum.org/v1/plot/vg/draw"
 )
 
-// CornerData is the input of NewCornerPlot.
-type CornerData struct {
+// PairsData is the input of NewPairsPlot.
+type PairsData struct {
 	// Title heads the figure ("" for none).
 	Title string
 	// Names are the parameters' names, used as axis labels.
@@ -47,6 +47,7 @@ type marginal struct {
 	lo, hi     float64 // axis range
 	q16, q50   float64
 	q84        float64
+	q025, q975 float64
 	n          int       // finite draws
 	hist       []float64 // counts per bin
 	haveValues bool
@@ -59,12 +60,15 @@ type panel2D struct {
 	levels []float64 // thresholds, descending probability order
 }
 
-// CornerPlot is a triangle plot of a posterior sample: each parameter's
-// histogram on the diagonal and each pair's 2-D density (shaded histogram
-// with contours enclosing the chosen probabilities) below it. The binning is
-// done once, when it is made; drawing scales the text to the tile size.
-type CornerPlot struct {
-	data   CornerData
+// PairsPlot shows the one- and two-dimensional marginals of a posterior
+// sample: on the diagonal, each parameter's density (a smoothed histogram)
+// with its central 68% shaded and, beneath it, a bar marking the median, the
+// 68% interval (thick) and the 95% interval (thin); below the diagonal, each
+// pair's 2-D density (shaded, with contours enclosing the chosen
+// probabilities). The binning is done once, when it is made; drawing scales
+// the text to the tile size.
+type PairsPlot struct {
+	data   PairsData
 	bins   int
 	levels []float64
 	color  color.Color
@@ -72,26 +76,26 @@ type CornerPlot struct {
 	pairs  [][]panel2D // pairs[i][j] for j < i
 }
 
-// NewCornerPlot bins the draws and returns the triangle plot.
+// NewPairsPlot bins the draws and returns the triangle plot.
 //
 // It returns an error when there are no names or no draws, when a draw's
 // length differs from the number of names, when Truths has the wrong length,
 // or when a level lies outside (0, 1).
-func NewCornerPlot(d CornerData) (*CornerPlot, error) {
+func NewPairsPlot(d PairsData) (*PairsPlot, error) {
 	np := len(d.Names)
 	if np == 0 {
-		return nil, fmt.Errorf("plots: corner plot: no parameter names")
+		return nil, fmt.Errorf("plots: pairs plot: no parameter names")
 	}
 	if len(d.Samples) == 0 {
-		return nil, fmt.Errorf("plots: corner plot: no draws")
+		return nil, fmt.Errorf("plots: pairs plot: no draws")
 	}
 	for i, s := range d.Samples {
 		if len(s) != np {
-			return nil, fmt.Errorf("plots: corner plot: draw %d has %d values for %d parameters", i, len(s), np)
+			return nil, fmt.Errorf("plots: pairs plot: draw %d has %d values for %d parameters", i, len(s), np)
 		}
 	}
 	if d.Truths != nil && len(d.Truths) != np {
-		return nil, fmt.Errorf("plots: corner plot: %d truth values for %d parameters", len(d.Truths), np)
+		return nil, fmt.Errorf("plots: pairs plot: %d truth values for %d parameters", len(d.Truths), np)
 	}
 	levels := d.Levels
 	if levels == nil {
@@ -99,7 +103,7 @@ func NewCornerPlot(d CornerData) (*CornerPlot, error) {
 	}
 	for _, l := range levels {
 		if !(l > 0 && l < 1) {
-			return nil, fmt.Errorf("plots: corner plot: contour level %g, want a probability in (0, 1)", l)
+			return nil, fmt.Errorf("plots: pairs plot: contour level %g, want a probability in (0, 1)", l)
 		}
 	}
 	levels = slices.Clone(levels)
@@ -110,19 +114,19 @@ func NewCornerPlot(d CornerData) (*CornerPlot, error) {
 		bins = max(8, min(48, bins))
 	}
 	if bins > 1000 {
-		return nil, fmt.Errorf("plots: corner plot: %d bins, want at most 1000", bins)
+		return nil, fmt.Errorf("plots: pairs plot: %d bins, want at most 1000", bins)
 	}
 	col := d.Color
 	if col == nil {
 		col = ArmColor(0)
 	}
-	t := &CornerPlot{data: d, bins: bins, levels: levels, color: col}
+	t := &PairsPlot{data: d, bins: bins, levels: levels, color: col}
 	t.bin()
 	return t, nil
 }
 
 // bin computes the marginals and the pairs' smoothed histograms.
-func (t *CornerPlot) bin() {
+func (t *PairsPlot) bin() {
 	np, ns, nb := len(t.data.Names), len(t.data.Samples), t.bins
 	t.margs = make([]marginal, np)
 	idx := make([][]int16, np) // bin of each draw, −1 outside or non-finite
@@ -139,10 +143,12 @@ func (t *CornerPlot) bin() {
 		if m.n == 0 {
 			m.lo, m.hi = 0, 1
 			m.q16, m.q50, m.q84 = math.NaN(), math.NaN(), math.NaN()
+			m.q025, m.q975 = math.NaN(), math.NaN()
 		} else {
 			m.haveValues = true
 			slices.Sort(vals)
 			m.q16, m.q50, m.q84 = quantileSorted(vals, 0.16), quantileSorted(vals, 0.5), quantileSorted(vals, 0.84)
+			m.q025, m.q975 = quantileSorted(vals, 0.025), quantileSorted(vals, 0.975)
 			// The axis spans the central 99.8% of the draws plus 5%, so
 			// that a few strays do not squeeze the bulk.
 			lo, hi := quantileSorted(vals, 0.001), quantileSorted(vals, 0.999)
@@ -196,7 +202,7 @@ func (t *CornerPlot) bin() {
 	}
 }
 
-func (t *CornerPlot) smooth() float64 {
+func (t *PairsPlot) smooth() float64 {
 	switch {
 	case t.data.Smooth == 0:
 		return 1
@@ -207,7 +213,7 @@ func (t *CornerPlot) smooth() float64 {
 	}
 }
 
-func (t *CornerPlot) truth(j int) float64 {
+func (t *PairsPlot) truth(j int) float64 {
 	if t.data.Truths == nil {
 		return math.NaN()
 	}
@@ -323,7 +329,7 @@ func densityThresholds(g []float64, probs []float64) []float64 {
 }
 
 // Draw draws the triangle plot onto c.
-func (t *CornerPlot) Draw(c draw.Canvas) {
+func (t *PairsPlot) Draw(c draw.Canvas) {
 	np := len(t.data.Names)
 	c.SetColor(color.White)
 	c.Fill(c.Rectangle.Path())
@@ -366,12 +372,12 @@ func (t *CornerPlot) Draw(c draw.Canvas) {
 }
 
 // Save writes the triangle plot to path; see the package function Save.
-func (t *CornerPlot) Save(path string, width, height vg.Length) error {
+func (t *PairsPlot) Save(path string, width, height vg.Length) error {
 	return Save(t, path, width, height)
 }
 
 // note writes what the marks mean in the empty upper-right triangle.
-func (t *CornerPlot) note(cv [][]draw.Canvas, base vg.Length) {
+func (t *PairsPlot) note(cv [][]draw.Canvas, base vg.Length) {
 	np := len(cv)
 	tr := cv[0][np-1]
 	var pct string
@@ -388,7 +394,8 @@ func (t *CornerPlot) note(cv [][]draw.Canvas, base vg.Length) {
 	lines := []string{
 		fmt.Sprintf("%d draws", len(t.data.Samples)),
 		"contours enclose " + pct,
-		"dashed: median and 16–84% range",
+		"shaded: central 68%",
+		"bar: median, 68% and 95% intervals",
 	}
 	if t.data.Truths != nil {
 		lines = append(lines, "solid lines: reference values")
@@ -403,7 +410,7 @@ func (t *CornerPlot) note(cv [][]draw.Canvas, base vg.Length) {
 
 // tile builds the plot of row i, column j (j ≤ i), for tiles of about the
 // given side and text of the given base size.
-func (t *CornerPlot) tile(i, j int, base, tile vg.Length) *plot.Plot {
+func (t *PairsPlot) tile(i, j int, base, tile vg.Length) *plot.Plot {
 	np := len(t.data.Names)
 	p := newPlot(base)
 	p.BackgroundColor = nil
@@ -424,10 +431,11 @@ func (t *CornerPlot) tile(i, j int, base, tile vg.Length) *plot.Plot {
 		for _, v := range mx.hist {
 			top = math.Max(top, v)
 		}
-		p.Y.Min, p.Y.Max = 0, top*1.12
+		// The lowest sixth of the tile holds the interval bar.
+		p.Y.Min, p.Y.Max = -top*0.22, top*1.08
 		p.Y.Tick.Marker = plot.ConstantTicks(nil)
 		p.Y.Tick.Length = 0
-		p.Add(hist1D{m: mx, color: t.color}, quantileLines{m: mx}, frame{})
+		p.Add(density1D{m: mx, color: t.color}, intervalBar{m: mx, y: -top * 0.11, color: t.color}, frame{})
 		if tr := t.truth(j); finite(tr) {
 			p.Add(truthLines{x: tr, y: math.NaN()})
 		}
@@ -454,7 +462,7 @@ func (t *CornerPlot) tile(i, j int, base, tile vg.Length) *plot.Plot {
 // contours returns the contour plotter of a 2-D panel, on a grid of cell
 // centres edged with empty cells placed on the axis limits, so that every
 // contour closes inside the panel.
-func (t *CornerPlot) contours(pn panel2D, mx, my marginal) *plotter.Contour {
+func (t *PairsPlot) contours(pn panel2D, mx, my marginal) *plotter.Contour {
 	g := paddedGrid{n: t.bins, g: pn.grid, x: mx, y: my}
 	lines := make([]draw.LineStyle, len(pn.levels))
 	for k := range lines {
@@ -506,43 +514,97 @@ func edgeCentre(k, n int, lo, hi float64) float64 {
 	return lo + (float64(k)-0.5)*(hi-lo)/float64(n)
 }
 
-// hist1D draws a marginal histogram: a pale fill under a step outline.
-type hist1D struct {
+// density1D draws a marginal density: the histogram smoothed by a Gaussian of
+// one bin, as a curve through the bin centres over a pale fill, with the
+// central 68% (between the 16th and 84th percentiles) filled deeper.
+type density1D struct {
 	m     marginal
 	color color.Color
 }
 
-func (h hist1D) Plot(c draw.Canvas, p *plot.Plot) {
-	trX, trY := p.Transforms(&c)
+// curve returns the smoothed density at the bin centres, with the axis ends.
+func (h density1D) curve() (xs, ys []float64) {
 	nb := len(h.m.hist)
-	if nb == 0 || !h.m.haveValues {
-		return
-	}
-	w := (h.m.hi - h.m.lo) / float64(nb)
-	pts := []vg.Point{{X: trX(h.m.lo), Y: trY(0)}}
-	for b, v := range h.m.hist {
-		x0, x1 := h.m.lo+float64(b)*w, h.m.lo+float64(b+1)*w
-		pts = append(pts, vg.Point{X: trX(x0), Y: trY(v)}, vg.Point{X: trX(x1), Y: trY(v)})
-	}
-	pts = append(pts, vg.Point{X: trX(h.m.hi), Y: trY(0)})
-	c.FillPolygon(withAlpha(h.color, 0.18), c.ClipPolygonXY(pts))
-	c.StrokeLines(draw.LineStyle{Color: h.color, Width: 1}, c.ClipLinesXY(pts)...)
-}
-
-// quantileLines marks the median and the 16th and 84th percentiles on a
-// histogram.
-type quantileLines struct{ m marginal }
-
-func (q quantileLines) Plot(c draw.Canvas, p *plot.Plot) {
-	trX, _ := p.Transforms(&c)
-	sty := draw.LineStyle{Color: inkColor, Width: 0.7, Dashes: []vg.Length{2.5, 1.8}}
-	for _, v := range []float64{q.m.q16, q.m.q50, q.m.q84} {
-		if finite(v) {
-			x := trX(v)
-			if c.ContainsX(x) {
-				c.StrokeLine2(sty, x, c.Min.Y, x, c.Max.Y)
+	sm := make([]float64, nb)
+	k := gaussKernel(1)
+	r := len(k) / 2
+	for b := range nb {
+		var s, wsum float64
+		for i, w := range k {
+			if j := b + i - r; j >= 0 && j < nb {
+				s += w * h.m.hist[j]
+				wsum += w
 			}
 		}
+		sm[b] = s / wsum
+	}
+	w := (h.m.hi - h.m.lo) / float64(nb)
+	xs, ys = []float64{h.m.lo}, []float64{sm[0]}
+	for b, v := range sm {
+		xs, ys = append(xs, h.m.lo+(float64(b)+0.5)*w), append(ys, v)
+	}
+	return append(xs, h.m.hi), append(ys, sm[nb-1])
+}
+
+func (h density1D) Plot(c draw.Canvas, p *plot.Plot) {
+	if len(h.m.hist) == 0 || !h.m.haveValues {
+		return
+	}
+	trX, trY := p.Transforms(&c)
+	xs, ys := h.curve()
+	// area returns the polygon under the curve between a and b.
+	area := func(a, b float64) []vg.Point {
+		at := func(x float64) float64 {
+			for i := 1; i < len(xs); i++ {
+				if x <= xs[i] {
+					f := (x - xs[i-1]) / (xs[i] - xs[i-1])
+					return ys[i-1] + f*(ys[i]-ys[i-1])
+				}
+			}
+			return ys[len(ys)-1]
+		}
+		pts := []vg.Point{{X: trX(a), Y: trY(0)}, {X: trX(a), Y: trY(at(a))}}
+		for i, x := range xs {
+			if x > a && x < b {
+				pts = append(pts, vg.Point{X: trX(x), Y: trY(ys[i])})
+			}
+		}
+		return append(pts, vg.Point{X: trX(b), Y: trY(at(b))}, vg.Point{X: trX(b), Y: trY(0)})
+	}
+	c.FillPolygon(withAlpha(h.color, 0.12), c.ClipPolygonXY(area(h.m.lo, h.m.hi)))
+	if finite(h.m.q16, h.m.q84) {
+		c.FillPolygon(withAlpha(h.color, 0.42), c.ClipPolygonXY(area(h.m.q16, h.m.q84)))
+	}
+	line := make([]vg.Point, len(xs))
+	for i := range xs {
+		line[i] = vg.Point{X: trX(xs[i]), Y: trY(ys[i])}
+	}
+	c.StrokeLines(draw.LineStyle{Color: mix(h.color, color.Black, 0.2), Width: 1.1}, c.ClipLinesXY(line)...)
+}
+
+// intervalBar marks a marginal's median (an open dot), 68% interval (a thick
+// bar) and 95% interval (a thin bar) at height y.
+type intervalBar struct {
+	m     marginal
+	y     float64
+	color color.Color
+}
+
+func (b intervalBar) Plot(c draw.Canvas, p *plot.Plot) {
+	if !finite(b.m.q025, b.m.q16, b.m.q50, b.m.q84, b.m.q975) {
+		return
+	}
+	trX, trY := p.Transforms(&c)
+	y := trY(b.y)
+	ink := mix(b.color, color.Black, 0.3)
+	seg := func(lo, hi float64, w vg.Length) {
+		pts := []vg.Point{{X: trX(lo), Y: y}, {X: trX(hi), Y: y}}
+		c.StrokeLines(draw.LineStyle{Color: ink, Width: w}, c.ClipLinesX(pts)...)
+	}
+	seg(b.m.q025, b.m.q975, 0.9)
+	seg(b.m.q16, b.m.q84, 3.2)
+	if x := trX(b.m.q50); c.ContainsX(x) {
+		fillCircle(c, vg.Point{X: x, Y: y}, 2.6, color.White, ink, 1.1)
 	}
 }
 

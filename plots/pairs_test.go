@@ -8,7 +8,7 @@ import (
 	"gonum.org/v1/plot/vg"
 )
 
-var cornerNames = []string{"R0", "Theta0", "Corvid_pitch", "Lantern_width"}
+var pairNames = []string{"R0", "Theta0", "Corvid_pitch", "Lantern_width"}
 
 // correlated returns n draws of a 4-parameter invented posterior with
 // correlated pairs.
@@ -27,8 +27,8 @@ func correlated(n int, seed uint64) [][]float64 {
 	return out
 }
 
-func TestCornerRenders(t *testing.T) {
-	c, err := NewCornerPlot(CornerData{Title: "Invented posterior", Names: cornerNames, Samples: correlated(5000, 1),
+func TestPairsRenders(t *testing.T) {
+	c, err := NewPairsPlot(PairsData{Title: "Invented posterior", Names: pairNames, Samples: correlated(5000, 1),
 		Truths: []float64{8.2, 226, math.NaN(), 0.3}})
 	if err != nil {
 		t.Fatal(err)
@@ -36,9 +36,9 @@ func TestCornerRenders(t *testing.T) {
 	saveBoth(t, c, 6*vg.Inch, 6*vg.Inch)
 }
 
-func TestCornerEdgeCases(t *testing.T) {
+func TestPairsEdgeCases(t *testing.T) {
 	// One draw.
-	c, err := NewCornerPlot(CornerData{Names: cornerNames, Samples: correlated(1, 2)})
+	c, err := NewPairsPlot(PairsData{Names: pairNames, Samples: correlated(1, 2)})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -56,7 +56,7 @@ func TestCornerEdgeCases(t *testing.T) {
 		}
 		s[i][3] = math.NaN()
 	}
-	c, err = NewCornerPlot(CornerData{Names: cornerNames, Samples: s})
+	c, err = NewPairsPlot(PairsData{Names: pairNames, Samples: s})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -69,24 +69,24 @@ func TestCornerEdgeCases(t *testing.T) {
 	saveBoth(t, c, 4*vg.Inch, 4*vg.Inch)
 
 	// One parameter.
-	c, err = NewCornerPlot(CornerData{Names: []string{"R0"}, Samples: [][]float64{{8}, {8.3}, {8.1}}})
+	c, err = NewPairsPlot(PairsData{Names: []string{"R0"}, Samples: [][]float64{{8}, {8.3}, {8.1}}})
 	if err != nil {
 		t.Fatal(err)
 	}
 	saveBoth(t, c, 3*vg.Inch, 3*vg.Inch)
 }
 
-func TestCornerErrors(t *testing.T) {
+func TestPairsErrors(t *testing.T) {
 	good := correlated(10, 4)
-	for name, d := range map[string]CornerData{
+	for name, d := range map[string]PairsData{
 		"no names":   {Samples: good},
-		"no draws":   {Names: cornerNames},
-		"short draw": {Names: cornerNames, Samples: [][]float64{{1, 2, 3, 4}, {1, 2}}},
-		"truths":     {Names: cornerNames, Samples: good, Truths: []float64{1}},
-		"level 1":    {Names: cornerNames, Samples: good, Levels: []float64{0.5, 1}},
-		"level NaN":  {Names: cornerNames, Samples: good, Levels: []float64{math.NaN()}},
+		"no draws":   {Names: pairNames},
+		"short draw": {Names: pairNames, Samples: [][]float64{{1, 2, 3, 4}, {1, 2}}},
+		"truths":     {Names: pairNames, Samples: good, Truths: []float64{1}},
+		"level 1":    {Names: pairNames, Samples: good, Levels: []float64{0.5, 1}},
+		"level NaN":  {Names: pairNames, Samples: good, Levels: []float64{math.NaN()}},
 	} {
-		if _, err := NewCornerPlot(d); err == nil {
+		if _, err := NewPairsPlot(d); err == nil {
 			t.Errorf("%s: no error", name)
 		}
 	}
@@ -126,7 +126,7 @@ func TestDensityThresholds(t *testing.T) {
 	for i := range s {
 		s[i] = []float64{rng.NormFloat64(), rng.NormFloat64()}
 	}
-	c, err := NewCornerPlot(CornerData{Names: []string{"a", "b"}, Samples: s, Bins: bins, Smooth: -1, Levels: []float64{0.5, 0.683, 0.954}})
+	c, err := NewPairsPlot(PairsData{Names: []string{"a", "b"}, Samples: s, Bins: bins, Smooth: -1, Levels: []float64{0.5, 0.683, 0.954}})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -169,9 +169,9 @@ func TestGaussKernel(t *testing.T) {
 	}
 }
 
-// BenchmarkCorner20 measures binning and drawing a triangle plot of 20
+// BenchmarkPairs20 measures binning and drawing a triangle plot of 20
 // parameters and 10⁵ draws to PNG.
-func BenchmarkCorner20(b *testing.B) {
+func BenchmarkPairs20(b *testing.B) {
 	rng := rand.New(rand.NewPCG(1, 1))
 	names := make([]string, 20)
 	for j := range names {
@@ -188,7 +188,7 @@ func BenchmarkCorner20(b *testing.B) {
 	dir := b.TempDir()
 	b.ResetTimer()
 	for range b.N {
-		c, err := NewCornerPlot(CornerData{Names: names, Samples: s})
+		c, err := NewPairsPlot(PairsData{Names: names, Samples: s})
 		if err != nil {
 			b.Fatal(err)
 		}
