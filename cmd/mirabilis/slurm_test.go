@@ -217,3 +217,68 @@ func waitFor(t *testing.T, limit time.Duration, what string, cond func() bool) {
 		time.Sleep(500 * time.Millisecond)
 	}
 }
+
+// TestSlurmCalibration runs a calibration set of three tiny mocks as a Slurm array to the
+// end, then reads it with report --coverage and draws the rank histograms.
+func TestSlurmCalibration(t *testing.T) {
+	needSlurm(t)
+	dir := t.TempDir()
+	if err := os.Chmod(dir, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	bin := buildProgram(t, dir)
+	cfgPath, _ := mocktest.Catalog(t, dir, slurmSurvey, "\n[sampler]\nwalkers = 40\nsteps = 60\nburn = 20\nseed = 3\n", fit.SpecFromConfig)
+	survey := filepath.Join(dir, "survey.toml")
+	writeFile(t, survey, []byte("[survey]\nsources = 25\nmax_distance = 10\nmin_distance = 0.5\ndeclination_range = [-90, 90]\n"))
+
+	array := filepath.Join(dir, "mocks")
+	runBin(t, bin, "batch", cfgPath, "--mocks", "3", "--survey", survey, "--cpus", "1", "--time", "00:20:00", "--out", array)
+	out, err := exec.Command("sbatch", "--parsable", filepath.Join(array, batch.ScriptName)).CombinedOutput()
+	if err != nil {
+		t.Fatalf("sbatch: %v: %s", err, out)
+	}
+	job := strings.Split(strings.TrimSpace(string(out)), ";")[0]
+	t.Cleanup(func() { exec.Command("scancel", job).Run() })
+	waitFor(t, 20*time.Minute, "the calibration array to finish", func() bool {
+		out, err := exec.Command("squeue", "-h", "-j", job).Output()
+		return err == nil && len(bytes.TrimSpace(out)) == 0
+	})
+	runs, _ := filepath.Glob(filepath.Join(array, "mock-*", "run"))
+	if len(runs) != 3 {
+		logs, _ := filepath.Glob(filepath.Join(array, "slurm-*.out"))
+		for _, l := range logs {
+			b, _ := os.ReadFile(l)
+			t.Logf("%s:\n%s", l, b)
+		}
+		t.Fatalf("%d run directories, want 3", len(runs))
+	}
+	fig := filepath.Join(dir, "ranks.png")
+	rep := runBin(t, bin, append([]string{"report", "--coverage", "--format", "json", "--figure", fig}, runs...)...)
+	var cov batch.Coverage
+	if err := json.Unmarshal(rep, &cov); err != nil {
+		t.Fatalf("report --coverage: %v\n%s", err, rep)
+	}
+	if len(cov.Runs) != 3 || len(cov.Rows) < 10 {
+		t.Fatalf("coverage of %d runs and %d parameters, want 3 runs and every sampled parameter", len(cov.Runs), len(cov.Rows))
+	}
+	for _, r := range cov.Rows {
+		if r.Mocks != 3 || len(r.Ranks) != 3 || r.In68 < 0 || r.In68 > r.In95 || r.In95 > 1 {
+			t.Errorf("%s: %+v", r.Name, r)
+		}
+		for _, k := range r.Ranks {
+			if k < 0 || k > cov.RankDraws {
+				t.Errorf("%s: rank %d outside 0 … %d", r.Name, k, cov.RankDraws)
+			}
+		}
+	}
+	if fi, err := os.Stat(fig); err != nil || fi.Size() < 1000 {
+		t.Errorf("rank histograms: %v", err)
+	}
+}
+
+func writeFile(t *testing.T, path string, data []byte) {
+	t.Helper()
+	if err := os.WriteFile(path, data, 0o644); err != nil {
+		t.Fatal(err)
+	}
+}

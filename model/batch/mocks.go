@@ -9,6 +9,7 @@ import (
 	"os"
 	"path/filepath"
 	"sort"
+	"strconv"
 	"strings"
 
 	"github.com/pelletier/go-toml/v2"
@@ -117,15 +118,22 @@ func drawTruth(cfg *config.Config, seed uint64) map[string]float64 {
 		if pr.IsFixed() {
 			u = 0.5
 		}
-		truth[name] = pr.Quantile(u)
+		truth[name] = round10(pr.Quantile(u))
 	}
 	if cfg.SamplesFractions() {
 		f := cfg.Fractions().Rand(src, nil)
 		for k, name := range cfg.FractionNames() {
-			truth[name] = f[k]
+			truth[name] = round10(f[k])
 		}
 	}
 	return truth
+}
+
+// round10 rounds x to the ten significant digits the model file writes, so that the
+// truth recorded is the truth drawn from.
+func round10(x float64) float64 {
+	v, _ := strconv.ParseFloat(fmt.Sprintf("%.10g", x), 64)
+	return v
 }
 
 // mockModel returns the configuration document base with every parameter fixed at its
