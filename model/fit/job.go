@@ -189,7 +189,7 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 				break
 			}
 			budget *= 2
-			j.logf("MAP search round %d: log posterior %.3f after %d evaluations, still rising (last gain %.2g); continuing with %d evaluations", round, lp, found.Evaluations, found.LastGain, budget)
+			j.logf("MAP search round %d: log posterior %.3f after %d evaluations, not settled (the last search gained %.2g); continuing with %d evaluations", round, lp, found.Evaluations, found.LastGain, budget)
 		}
 		if round == 1 {
 			inner, err := j.flagInner(x)
