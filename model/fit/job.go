@@ -311,10 +311,13 @@ func (j *Job) laplace(x, prior []float64, threads int) []float64 {
 		for i := range z {
 			z[i] = x[i] + h[i]*y[i]
 		}
-		return j.Post.LogDensity(z)
+		return j.Post.LogDensityParallel(z, threads)
 	}
+	// The stencil is evaluated in order (fd's concurrent mode would sum it in the order
+	// the evaluations finish, and the spreads, hence the chain, would depend on timing);
+	// each evaluation shares its sources among the threads instead.
 	var Hy mat.SymDense
-	fd.Hessian(&Hy, scaled, make([]float64, n), &fd.Settings{Formula: fd.Central, Step: 1, Concurrent: threads != 1})
+	fd.Hessian(&Hy, scaled, make([]float64, n), &fd.Settings{Formula: fd.Central, Step: 1})
 	H := mat.NewSymDense(n, nil)
 	for a := range n {
 		for b := a; b < n; b++ {
