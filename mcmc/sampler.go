@@ -873,17 +873,7 @@ func (s *sampler) estimateTau(maxRows int) ([]float64, bool) {
 	}
 	allOK := s.chain.Len() > 0
 	for j := range tau {
-		series := s.chain.Series(j, 0)
-		if f > 1 {
-			for k, x := range series {
-				m := 0
-				for t := f - 1; t < len(x); t += f {
-					x[m] = x[t]
-					m++
-				}
-				series[k] = x[:m]
-			}
-		}
+		series := s.chain.seriesEvery(j, f)
 		t, ok := AutocorrTime(series, s.set.Window)
 		tau[j] = t * float64(s.set.Thin*f)
 		allOK = allOK && ok && !math.IsNaN(t)
