@@ -25,8 +25,9 @@ is shorter than 50 τ.
 
 For every catalog source: the columns of the run's sources.csv, and the kinematic
 distances (nearest and farthest) at which the posterior median model predicts its
-v_LSR, flagged "kinematic-conflict" when none lies within 3σ of the measured
-parallax.
+v_LSR, flagged "kinematic-conflict" when none lies within 3σ of the parallax's
+distance (σ combining the parallax's error with the spread that the velocity's
+error and the sources' dispersion σ_vir give the kinematic distance).
 
 --burn N leaves out the first N kept rows of each chain (default: the
 configuration's burn-in). --format json writes an object with the keys parameters

@@ -108,8 +108,11 @@ func (c *Config) write(forHash bool) []byte {
 		w.integer("threads", int64(s.Threads), "0 = all cores")
 		w.integer("checkpoint_every", int64(s.CheckpointEvery), "steps")
 	}
-	w.line("moves", fmt.Sprintf("{ stretch = %s, differential_evolution = %s, walk = %s }",
-		formatFloat(s.Moves.Stretch), formatFloat(s.Moves.DiffEvolution), formatFloat(s.Moves.Walk)), "relative weights")
+	w.line("moves", fmt.Sprintf("{ stretch = %s, differential_evolution = %s, walk = %s, differential_slice = %s, gaussian_slice = %s }",
+		formatFloat(s.Moves.Stretch), formatFloat(s.Moves.DiffEvolution), formatFloat(s.Moves.Walk),
+		formatFloat(s.Moves.DiffSlice), formatFloat(s.Moves.GaussSlice)), "relative weights")
+	w.line("adapt_weights", strconv.FormatBool(s.AdaptWeights), "during burn-in")
+	w.num("min_ess", s.MinESS, "with steps = 0")
 	w.num("stretch_scale", s.StretchScale, "")
 	return []byte(w.b.String())
 }
