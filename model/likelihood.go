@@ -414,28 +414,6 @@ func (L *Likelihood) LogL(p *Params) float64 {
 	return total
 }
 
-// LogLParallel is LogL with the sources shared among workers goroutines (GOMAXPROCS when
-// ≤ 0), for callers that evaluate one parameter set at a time. The terms are added in the
-// same order as LogL, so the result is the same to the last bit.
-func (L *Likelihood) LogLParallel(p *Params, workers int) float64 {
-	terms := make([]float64, len(L.Sources))
-	const block = 16
-	Parallel((len(L.Sources)+block-1)/block, workers, func(b int) {
-		for i := b * block; i < min(len(L.Sources), (b+1)*block); i++ {
-			if !L.Excluded[i] {
-				terms[i] = L.SourceLogL(i, p)
-			}
-		}
-	})
-	var total float64
-	for i, v := range terms {
-		if !L.Excluded[i] {
-			total += v
-		}
-	}
-	return total
-}
-
 // ErrorEstimate returns the estimated error of ln L_i at p on the source's fixed
 // quadrature (Σ |K15 − G7| / I over its panels).
 func (L *Likelihood) ErrorEstimate(i int, p *Params) float64 {

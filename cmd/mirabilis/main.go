@@ -74,6 +74,7 @@ var commands = []*command{
 	simulateCommand,
 	checkCommand,
 	predictCommand,
+	compareCommand,
 	demoCommand,
 }
 

@@ -61,6 +61,7 @@ func runReport(env *runEnv, o *reportOptions, args []string) error {
 	if err != nil {
 		return err
 	}
+	defer closeRuns(runs)
 	rep, err := fit.NewReport(runs, o.burn)
 	if err != nil {
 		return err
@@ -87,9 +88,21 @@ func openRuns(dirs []string) ([]*fit.Run, error) {
 	for _, d := range dirs {
 		r, err := fit.OpenRun(d)
 		if err != nil {
+			closeRuns(runs)
 			return nil, err
 		}
 		runs = append(runs, r)
 	}
-	return runs, fit.SameModel(runs)
+	if err := fit.SameModel(runs); err != nil {
+		closeRuns(runs)
+		return nil, err
+	}
+	return runs, nil
+}
+
+// closeRuns releases the runs' chain files.
+func closeRuns(runs []*fit.Run) {
+	for _, r := range runs {
+		r.Close()
+	}
 }
