@@ -75,6 +75,7 @@ var commands = []*command{
 	checkCommand,
 	predictCommand,
 	compareCommand,
+	batchCommand,
 	demoCommand,
 }
 

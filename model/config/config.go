@@ -66,10 +66,7 @@ type Config struct {
 }
 
 // Param is a named parameter (or derived quantity) with its prior.
-type Param struct {
-	Name  string
-	Prior prior.Prior
-}
+type Param = model.NamedPrior
 
 // Rotation describes the rotation curve.
 type Rotation struct {
@@ -372,7 +369,7 @@ func armParams(a Arm) []Param {
 	names := param.ArmNames(a.Name, a.Kinked())
 	ps := make([]Param, len(names))
 	for i, n := range names {
-		ps[i] = Param{n, priors[strings.TrimPrefix(n, a.Name)]}
+		ps[i] = Param{Name: n, Prior: priors[strings.TrimPrefix(n, a.Name)]}
 	}
 	return ps
 }

@@ -65,7 +65,7 @@ func TestGoodConfigsLoad(t *testing.T) {
 	if demo.Arms[3].RefAzimuth != 20 || demo.Arms[3].AzimuthRange[1] != 400 {
 		t.Errorf("demo: Halcyon = %+v", demo.Arms[3])
 	}
-	if len(demo.DerivedPriors) != 1 || demo.DerivedPriors[0] != (Param{param.OmegaSun, prior.Normal{Mu: 29.65, Sigma: 1}}) {
+	if len(demo.DerivedPriors) != 1 || demo.DerivedPriors[0] != (Param{Name: param.OmegaSun, Prior: prior.Normal{Mu: 29.65, Sigma: 1}}) {
 		t.Errorf("demo: derived priors %v", demo.DerivedPriors)
 	}
 	s := demo.Sampler

@@ -156,10 +156,10 @@ type MoveUse struct {
 
 // fill fills in the cost of the effective samples, for burn steps left out of a
 // chain of steps.
-func (s *Sampling) fill(res *mcmc.Result, steps, burn int, params []Quantity) {
+func (s *Sampling) fill(res *mcmc.Result, steps, burn int, maxTau float64, params []Quantity) {
 	s.SlowestESS = math.NaN()
 	for _, q := range params {
-		if !(q.ESS >= s.SlowestESS) {
+		if !math.IsNaN(q.ESS) && !(q.ESS >= s.SlowestESS) { // NaN for a constant parameter
 			s.SlowestESS = q.ESS
 		}
 	}
@@ -175,6 +175,7 @@ func (s *Sampling) fill(res *mcmc.Result, steps, burn int, params []Quantity) {
 		return
 	}
 	s.EvaluationsPerStep = float64(res.Evaluations-res.TunedEvaluations) / float64(steps-res.TuneSteps)
+	s.MaxTauEvaluations = maxTau * s.EvaluationsPerStep
 	after := s.EvaluationsPerStep * float64(steps-burn)
 	s.ESSPerEvaluation = s.SlowestESS / after
 	s.ESSPerSecond = s.SlowestESS / (res.Seconds * after / float64(res.Evaluations))
@@ -322,7 +323,7 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 			s.Derived = append(s.Derived, qt)
 		}
 	}
-	s.Sampling.fill(res, s.Steps, burn, s.Params)
+	s.Sampling.fill(res, s.Steps, burn, s.MaxTau, s.Params)
 	// Posterior draws for the per-source results and the figures: spread evenly over the
 	// kept rows after burn-in, cycling through the walkers.
 	nd := min(sourceDraws, n*W)
