@@ -54,7 +54,7 @@ func TestRadiusPerTurn(t *testing.T) {
 }
 
 // The centre line passes through (R_ref, β_ref), with or without a kink, on either side of
-// it (MODEL.md §4: the spiral is defined through that point).
+// it (package model, Arms: the spiral is defined through that point).
 func TestReferencePoint(t *testing.T) {
 	for _, a := range []Arm{plainArm(), kinkedArm()} {
 		for _, bref := range []float64{-1.5, 0.2, 1.1, 3} {
@@ -67,7 +67,7 @@ func TestReferencePoint(t *testing.T) {
 }
 
 // With a kink, ln R is continuous at β_kink and its slope is −tan ψ_1 below and −tan ψ_2 above
-// (MODEL.md §4; the slope by central differences, common practice, no source).
+// (package model, Arms; the slope by central differences, common practice, no source).
 func TestKinkContinuity(t *testing.T) {
 	for _, bref := range []float64{-1, 1.1, 2.5} {
 		a := kinkedArm()
@@ -96,7 +96,7 @@ func TestKinkContinuity(t *testing.T) {
 	}
 }
 
-// ln R_k(β) = ln R_ref − ∫_{β_ref}^{β} tan ψ(β′) dβ′ (MODEL.md §4), against the integral of
+// ln R_k(β) = ln R_ref − ∫_{β_ref}^{β} tan ψ(β′) dβ′ (package model, Arms), against the integral of
 // tan ψ(β′) by composite Gauss–Legendre, split at the kink as usual for a piecewise integrand.
 func TestKinkedIntegral(t *testing.T) {
 	a := kinkedArm()
@@ -129,7 +129,7 @@ func TestKinkedIntegral(t *testing.T) {
 }
 
 // The windings counted for a point at β are those with β + 2πn in
-// [β_start − 30τ, β_end + 30τ], or else the single one nearest that interval (MODEL.md §4);
+// [β_start − 30τ, β_end + 30τ], or else the single one nearest that interval (package model, Arms);
 // checked against a direct enumeration of n.
 func TestWindings(t *testing.T) {
 	const tau = 3 * deg
@@ -164,7 +164,7 @@ func TestWindings(t *testing.T) {
 }
 
 // δ⊥ = (R − R_k(β_n)) cos ψ_k(β_n) and w_k(R) = max(w_k + g (R − R0), 0.01 kpc), as defined in
-// MODEL.md §4.
+// package model, Arms.
 func TestOffsetAndWidth(t *testing.T) {
 	a := kinkedArm()
 	for _, beta := range []float64{-1, 0.5, 1.1, 3} {
@@ -188,7 +188,7 @@ func TestOffsetAndWidth(t *testing.T) {
 
 func logistic(x float64) float64 { return 1 / (1 + math.Exp(-x)) }
 
-// E(β) = σ((β − β_start)/τ) σ((β_end − β)/τ) (MODEL.md §4), against the logistic function
+// E(β) = σ((β − β_start)/τ) σ((β_end − β)/τ) (package model, Arms), against the logistic function
 // written out: at either end it is ½ · 1/(1 + e^{−Δβ/τ}), at the middle σ(Δβ/2τ)².
 func TestLogEdge(t *testing.T) {
 	for _, tau := range []float64{1 * deg, 3 * deg, 10 * deg} {
@@ -222,7 +222,7 @@ func TestLogEdge(t *testing.T) {
 	}
 }
 
-// Z = ∫ E(β) dβ = Δβ / (1 − exp(−Δβ/τ)) (MODEL.md §4), against composite Gauss–Legendre
+// Z = ∫ E(β) dβ = Δβ / (1 − exp(−Δβ/τ)) (package model, Arms), against composite Gauss–Legendre
 // integration of E over the whole line (beyond ±60τ of the ends E < e^{−60}).
 func TestLogEdgeNorm(t *testing.T) {
 	for _, tau := range []float64{1 * deg, 3 * deg} {
@@ -240,7 +240,7 @@ func TestLogEdgeNorm(t *testing.T) {
 }
 
 // Validation rejects each kind of bad parameter with a *ParamError naming the field
-// (MODEL.md §4 ranges: |ψ| < 90°, w > 0, a non-empty azimuth range).
+// (package model, Arms; the ranges |ψ| < 90°, w > 0, a non-empty azimuth range).
 func TestValidate(t *testing.T) {
 	if err := plainArm().Validate(); err != nil {
 		t.Fatalf("valid arm rejected: %v", err)

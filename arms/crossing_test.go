@@ -11,7 +11,7 @@ import (
 
 // The Sun is at (R0, β = 0); a point toward l = 90° has R = √(R0² + d²) and β = atan(d/R0) > 0
 // (Galactic rotation runs toward l = 90° at the Sun); the centre is at R = 0; and
-// Heliocentric inverts Galactocentric (MODEL.md §2 geometry, worked by hand).
+// Heliocentric inverts Galactocentric (the geometry of package model, Frames, worked by hand).
 func TestGalactocentric(t *testing.T) {
 	const R0 = 8.2
 	if R, b := Galactocentric(R0, 0, 0); R != R0 || b != 0 {

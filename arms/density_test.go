@@ -28,8 +28,8 @@ func testArms() []Arm {
 	}
 }
 
-// refLnRadius is ln R(β) of the centre line written afresh from MODEL.md §4 with the
-// antiderivative G of tan ψ: ln R(β) = ln R_ref − (G(β) − G(β_ref)).
+// refLnRadius is ln R(β) of the centre line written afresh from package model (Arms) with
+// the antiderivative G of tan ψ: ln R(β) = ln R_ref − (G(β) − G(β_ref)).
 func refLnRadius(a Arm, beta float64) float64 {
 	G := func(b float64) float64 {
 		t1 := math.Tan(a.Pitch)
@@ -146,7 +146,7 @@ func legendre(n int) (x, w []float64) {
 	return x, w
 }
 
-// Each arm density integrates to one over the plane when the width is constant (MODEL.md §4
+// Each arm density integrates to one over the plane when the width is constant (package model, Arms
 // asks for 1e-3; the construction is exact up to the ends' tails beyond 30τ, below 1e-13,
 // so 1e-6 is required here).
 func TestArmNormalisation(t *testing.T) {
@@ -166,8 +166,8 @@ func TestArmNormalisation(t *testing.T) {
 
 // widthGrowthFactor is ∫ N(x c; 0, a + g x) c dx for ε = g/c, after u = x c/a:
 // ∫ φ(u/(1+εu)) / (1+εu) du, by composite Gauss–Legendre. Expanding in ε gives 1 + ε² + O(ε⁴)
-// (moments of the standard normal: E[u² − (5/2)u⁴ + (1/2)u⁶] = 1), which is MODEL.md §4's
-// 1.0004 at g = 0.02.
+// (moments of the standard normal: E[u² − (5/2)u⁴ + (1/2)u⁶] = 1), which is the
+// 1.0004 at g = 0.02 of package model, Arms.
 func widthGrowthFactor(eps float64) float64 {
 	f := func(u float64) float64 {
 		s := 1 + eps*u
@@ -181,7 +181,7 @@ func widthGrowthFactor(eps float64) float64 {
 }
 
 // With the width growing as w_k + g (R − R0), g = 0.02, each arm density integrates to
-// 1 + (g/cos ψ)² + O((g/cos ψ)⁴) ≈ 1.0004 (MODEL.md §4): within 1e-3 of one as MODEL.md §4
+// 1 + (g/cos ψ)² + O((g/cos ψ)⁴) ≈ 1.0004 (package model, Arms): within 1e-3 of one as package model (Arms)
 // requires, and within 1e-6 of the one-dimensional factor widthGrowthFactor(g/cos ψ)
 // (bounded by the factors of ψ_1 and ψ_2 for a kinked arm).
 func TestArmNormalisationSlope(t *testing.T) {
@@ -212,11 +212,11 @@ func TestArmNormalisationSlope(t *testing.T) {
 		}
 	}
 	if f := widthGrowthFactor(0.02); math.Abs(f-1.0004) > 1e-5 {
-		t.Errorf("width growth factor at g/cos ψ = 0.02: %.7f, MODEL.md §4 says 1.0004", f)
+		t.Errorf("width growth factor at g/cos ψ = 0.02: %.7f, package model (Arms) says 1.0004", f)
 	}
 }
 
-// The field disk ρ_0(R) = exp(−R/h)/(2π h²) integrates to one over the plane (MODEL.md §4),
+// The field disk ρ_0(R) = exp(−R/h)/(2π h²) integrates to one over the plane (package model, Arms),
 // by composite Gauss–Legendre over 0 < R < 60h (the tail beyond holds 61 e^{−60} of the mass).
 func TestFieldNormalisation(t *testing.T) {
 	for _, h := range []float64{0, 2, 3.5} {
@@ -235,8 +235,8 @@ func TestFieldNormalisation(t *testing.T) {
 	}
 }
 
-// refLogArm is ln ρ_k written directly from MODEL.md §4 in plain (linear) arithmetic, with its
-// own enumeration of the windings.
+// refLogArm is ln ρ_k written directly from package model (Arms) in plain (linear)
+// arithmetic, with its own enumeration of the windings.
 func refLogArm(a Arm, R0, g, tau, R, beta float64) float64 {
 	lo, hi := a.BetaStart-30*tau, a.BetaEnd+30*tau
 	var ns []int
@@ -270,8 +270,8 @@ func refLogArm(a Arm, R0, g, tau, R, beta float64) float64 {
 	return math.Log(rho)
 }
 
-// LogDensities agrees with the density of MODEL.md §4 summed directly in linear space, at
-// points near and between the arms (fixed seed), for g = 0 and g = 0.02 and two softenings.
+// LogDensities agrees with the density of package model (Arms) summed directly in linear
+// space, at points near and between the arms (fixed seed), for g = 0 and g = 0.02 and two softenings.
 func TestLogDensitiesDirect(t *testing.T) {
 	rng := rand.New(rand.NewPCG(1, 2))
 	for _, c := range []struct{ g, tau, h float64 }{{0, 0, 0}, {0.02, 5 * deg, 2.5}, {-0.01, 1 * deg, 0}} {
@@ -316,7 +316,7 @@ func TestLogDensitiesDirect(t *testing.T) {
 }
 
 // Far from every arm, and at the centre itself, the log-density is finite and very negative,
-// never −Inf or NaN (MODEL.md §4).
+// never −Inf or NaN (package model, Arms).
 func TestFarFromArms(t *testing.T) {
 	arms := testArms()
 	arms = append(arms, Arm{Name: "Thread", RRef: 8, Pitch: 89.9 * deg, BetaStart: 0, BetaEnd: 0.5, Width: 0.01})
@@ -462,7 +462,7 @@ func BenchmarkReset(b *testing.B) {
 }
 
 // With a sharp end (τ = 0.001 rad) a point far beyond it has an end factor E far below the
-// smallest float64; its log-density must still follow MODEL.md §4, here written in logarithms
+// smallest float64; its log-density must still follow package model (Arms), here written in logarithms
 // with ln σ(x) = x − ln(1 + eˣ) for x < 0 (identity of the logistic function).
 func TestSharpEndFarAway(t *testing.T) {
 	const tau = 0.001
@@ -500,7 +500,7 @@ func TestSharpEndFarAway(t *testing.T) {
 }
 
 // TestDensitiesMatchLog checks the linear densities against the exponential of the
-// log-densities (the same formula of MODEL §4 evaluated two ways) at points near and far
+// log-densities (the same formula of package model (Arms) evaluated two ways) at points near and far
 // from the arms.
 func TestDensitiesMatchLog(t *testing.T) {
 	l := Layout{

@@ -6,7 +6,7 @@ import (
 )
 
 // The outline's centre points lie on the centre line; its edge points lie at the same azimuth
-// with (R_e − R_k(β)) cos ψ(β) = ∓w_k(R_e), the across-arm offset and width law of MODEL.md §4,
+// with (R_e − R_k(β)) cos ψ(β) = ∓w_k(R_e), the across-arm offset and width law of package model, Arms,
 // including where the width sits on its 0.01 kpc floor; the kink azimuth is included.
 func TestOutline(t *testing.T) {
 	const R0 = 8.15

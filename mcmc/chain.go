@@ -168,6 +168,28 @@ func (c *Chain) Series(j, burn int) [][]float64 {
 	return c.column(3+j, burn)
 }
 
+// seriesEvery is Series(j, 0) thinned to kept rows f−1, 2f−1, …; only those rows
+// are read, which keeps the estimates during a long run cheap.
+func (c *Chain) seriesEvery(j, f int) [][]float64 {
+	if f <= 1 {
+		return c.Series(j, 0)
+	}
+	n := c.rows / f
+	out := make([][]float64, c.walkers)
+	flat := make([]float64, c.walkers*n)
+	for k := range out {
+		out[k] = flat[k*n : (k+1)*n : (k+1)*n]
+	}
+	var buf []byte
+	for m := range n {
+		buf = c.read((m+1)*f-1, 1, buf)
+		for k := range c.walkers {
+			out[k][m] = math.Float64frombits(field(buf[k*c.rec:], 3+j))
+		}
+	}
+	return out
+}
+
 // LogDensitySeries returns the log-density trace of every walker, indexed
 // [walker][kept row], leaving out the first burn kept rows.
 func (c *Chain) LogDensitySeries(burn int) [][]float64 {

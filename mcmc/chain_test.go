@@ -100,3 +100,25 @@ func TestNamesValidated(t *testing.T) {
 		}
 	}
 }
+
+// seriesEvery keeps kept rows f−1, 2f−1, … of Series (the thinning of the estimates
+// during a run).
+func TestSeriesEvery(t *testing.T) {
+	c := NewChain([]string{"a", "b"}, 2)
+	for s := 1; s <= 11; s++ {
+		c.Append(s, [][]float64{{float64(s), -float64(s)}, {10 * float64(s), 0}}, []float64{0, 0})
+	}
+	for _, f := range []int{1, 2, 3, 5, 11, 12} {
+		got := c.seriesEvery(0, f)
+		full := c.Series(0, 0)
+		for k := range full {
+			var want []float64
+			for t := f - 1; t < len(full[k]); t += f {
+				want = append(want, full[k][t])
+			}
+			if !slices.Equal(got[k], want) && !(len(got[k]) == 0 && len(want) == 0) {
+				t.Errorf("f = %d walker %d: %v, want %v", f, k, got[k], want)
+			}
+		}
+	}
+}

@@ -52,8 +52,60 @@ type Checkpoint struct {
 	// Extra holds the caller's own bytes (see CheckpointReply.Extra).
 	Extra []byte
 
+	// Tuning is the state of the tuning and the evaluation count.
+	Tuning Tuning
+
 	walkerStreams [][]byte // MarshalBinary of each walker's PCG
 	moveStream    []byte   // MarshalBinary of the move-choice PCG
+}
+
+// Tuning is the part of a checkpoint that the tuning steps change, and the
+// evaluation accounting; each slice is indexed by move.
+type Tuning struct {
+	// Steps and Adapt are the settings' TuneSteps and AdaptWeights, which
+	// a resumed run must share.
+	Steps int
+	Adapt bool
+	// Widths are the slice widths μ (0 for moves that are not slice moves),
+	// frozen after the tuning steps.
+	Widths []float64
+	// Weights are the normalised move weights in use, frozen after the
+	// tuning steps.
+	Weights []float64
+	// Rates are the squared jumps per evaluation last measured (NaN when
+	// never), WindowJumps and WindowEvaluations the sums of the window in
+	// progress (see Settings.AdaptWeights).
+	Rates, WindowJumps, WindowEvaluations []float64
+	// Costs are the evaluations per step last measured (NaN when never),
+	// WindowSteps the steps of the window in progress.
+	Costs, WindowSteps []float64
+	// Evaluations and TunedEvaluations are as in Result; Seconds is the
+	// sampling time so far.
+	Evaluations, TunedEvaluations int64
+	Seconds                       float64
+}
+
+func (t *Tuning) encode(e *encoder) {
+	e.uint(uint64(t.Steps))
+	e.bool(t.Adapt)
+	for _, f := range [][]float64{t.Widths, t.Weights, t.Rates, t.WindowJumps, t.WindowEvaluations, t.Costs, t.WindowSteps, {t.Seconds}} {
+		e.floats(f)
+	}
+	e.uint(uint64(t.Evaluations))
+	e.uint(uint64(t.TunedEvaluations))
+}
+
+func (t *Tuning) decode(d *decoder) {
+	t.Steps, t.Adapt = d.int(), d.bool()
+	t.Widths, t.Weights, t.Rates = d.floats(), d.floats(), d.floats()
+	t.WindowJumps, t.WindowEvaluations = d.floats(), d.floats()
+	t.Costs, t.WindowSteps = d.floats(), d.floats()
+	if sec := d.floats(); len(sec) == 1 {
+		t.Seconds = sec[0]
+	} else if d.err == nil {
+		d.err = errors.New("bad sampling time")
+	}
+	t.Evaluations, t.TunedEvaluations = int64(d.uint()), int64(d.uint())
 }
 
 // encode lays the checkpoint out as magic, version, payload length, payload
@@ -86,6 +138,7 @@ func (c *Checkpoint) encode() []byte {
 		e.bytes(s)
 	}
 	e.bytes(c.moveStream)
+	c.Tuning.encode(&e)
 
 	out := make([]byte, 0, checkpointHeader+e.buf.Len()+4)
 	out = append(out, checkpointMagic...)
@@ -154,6 +207,7 @@ func decodeCheckpoint(b []byte) (*Checkpoint, error) {
 		c.walkerStreams = append(c.walkerStreams, d.bytes())
 	}
 	c.moveStream = d.bytes()
+	c.Tuning.decode(&d)
 	if d.err == nil && len(d.b) != 0 {
 		d.err = fmt.Errorf("%d unexpected bytes at the end", len(d.b))
 	}

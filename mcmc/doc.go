@@ -17,15 +17,26 @@
 // the second against the first; within a half the proposals are evaluated
 // concurrently by Settings.Threads goroutines. Moves sit behind the Move
 // interface: StretchMove (Goodman & Weare 2010), DifferentialMove (ter Braak
-// 2006, Stat. Comput. 16, 239) and WalkMove (Goodman & Weare 2010), mixed by
-// weight; the move of each step is drawn from a random stream of its own.
+// 2006, Stat. Comput. 16, 239) and WalkMove (Goodman & Weare 2010), and the
+// ensemble slice moves DifferentialSliceMove and GaussianSliceMove (Karamanis
+// & Beutler 2021, Stat. Comput. 31, 61), mixed by weight; the move of each
+// step is drawn from a random stream of its own. A slice update costs a
+// variable number of evaluations, made one after another by the walker's
+// own worker: a walker's update depends only on its own stream, its own
+// position and the other half, so the half's walkers still run in parallel
+// with nothing depending on which worker runs which. During the first
+// Settings.TuneSteps steps the slice widths are tuned and, with
+// Settings.AdaptWeights, the move weights adapt; both are frozen afterwards.
+// Every log-density evaluation is counted (Result.Evaluations,
+// Progress.Evaluations).
 // Every walker draws from its own PCG stream derived from the seed and its
 // index, so a run is the same bit for bit whatever the number of threads,
 // and a resumed run continues exactly as an uninterrupted one.
 //
 // A run stops after Settings.Steps steps (the total length of the chain), or
 // by the automatic rule (longer than TauFactor = 50 autocorrelation times,
-// which changed by less than 1% since the last check), or when its
+// which changed by less than 1% since the last check, and an effective
+// sample size of at least MinESS for every parameter), or when its
 // wall-clock budget is used up, or when its context is cancelled; each way of
 // stopping leaves a checkpoint (when a checkpoint file is set) to resume from.
 //
@@ -61,6 +72,7 @@
 // A checkpoint file holds everything a run needs to continue: positions,
 // log-densities, acceptance counts, every walker's random-stream state, the
 // move-choice stream, the step, the last autocorrelation estimate, the
+// tuned slice widths and move weights, the evaluation count, the
 // settings that must not change (seed, walkers, dimension, thinning, names,
 // moves), the chain file's length and the CRC-32C of its rows, and the caller's own bytes
 // (CheckpointReply.Extra). It is binary: the 8 bytes "MCMCCKPT", a

@@ -44,9 +44,9 @@ type MAPResult struct {
 	LogDensity float64
 	// Evaluations is the number of log-density evaluations used.
 	Evaluations int
-	// Converged is true when the last search converged (its simplex's
-	// values agreed within Tolerance) and a restart from its point gained
-	// less than Settle; false when the budget or the restarts ran out first.
+	// Converged is true when a restart from the best point found gained
+	// less than Settle: the value has stopped improving. It is false when
+	// the budget or the restarts ran out first.
 	Converged bool
 	// Rounds is the number of searches run (the first and its restarts), and
 	// LastGain the log-density the last of them gained.
@@ -178,8 +178,7 @@ func FindMAP(logDensity func(x []float64) float64, x0 []float64, s *MAPSettings)
 			res.LogDensity = -r.F
 		}
 		res.Rounds, res.LastGain = round+1, math.Max(improved, 0)
-		converged := r.Status == optimize.FunctionConvergence
-		res.Converged = converged && round > 0 && improved <= settle
+		res.Converged = round > 0 && improved <= settle
 		if res.Converged {
 			break
 		}

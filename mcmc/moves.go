@@ -25,6 +25,11 @@ import (
 // Propose is called concurrently for different walkers, each call with its
 // own y and src, so it must not modify the Move, x or others.
 //
+// The slice moves of this package (DifferentialSliceMove, GaussianSliceMove)
+// implement Move differently: Propose writes a direction into y, and the
+// sampler moves the walker by slice sampling along it, with no
+// Metropolis–Hastings test.
+//
 // A checkpoint records each move's description (its String method if it has
 // one, else its printed value) and a resumed run must use moves with the
 // same descriptions; moves holding pointers should therefore have a String
@@ -264,4 +269,152 @@ func describeMove(m Move) string {
 		return s.String()
 	}
 	return fmt.Sprintf("%T%+v", m, m)
+}
+
+// sliceMove is implemented by the moves that update a walker by slice
+// sampling along a direction instead of a Metropolis–Hastings test: their
+// Propose writes the direction of unit width into y and returns 0, and the
+// sampler scales it by the move's width μ and slice-samples along it.
+type sliceMove interface {
+	Move
+	// width is the initial width μ₀ of the move, before any tuning.
+	width() float64
+	// maxSteps bounds the stepping-out expansions of one update.
+	maxSteps() int
+}
+
+// DifferentialSliceMove is the differential-direction move of ensemble slice
+// sampling (Karamanis & Beutler 2021, Stat. Comput. 31, 61, §3.2): two
+// distinct walkers X_l, X_m are drawn from the other half and the walker is
+// moved by univariate slice sampling (Neal 2003, Ann. Stat. 31, 705, §4,
+// stepping out and shrinking) along the line X + t·η with η = μ (X_l − X_m).
+// Every update moves the walker; it costs a variable number of evaluations
+// (at least one).
+//
+// The width μ starts at Width and, during the first Settings.TuneSteps steps
+// of a run, is tuned after each step in which the move was used by
+// μ ← 2μ·N_e/(N_e + N_c), N_e and N_c being the expansions and contractions
+// of the intervals over the ensemble in that step (Karamanis & Beutler 2021,
+// Algorithm 4; N_e is taken as at least 1), which drives their ratio to 1/2;
+// the width is frozen afterwards.
+type DifferentialSliceMove struct {
+	// Width is the initial width μ₀ > 0; zero means 1, the paper's choice.
+	Width float64
+	// MaxSteps bounds the stepping-out expansions per update (Neal's m);
+	// zero means 10000.
+	MaxSteps int
+}
+
+// Propose implements Move: it writes the direction X_l − X_m into y.
+func (m DifferentialSliceMove) Propose(y, x []float64, others [][]float64, src *rand.Rand) float64 {
+	n := len(others)
+	j := src.IntN(n)
+	k := src.IntN(n - 1)
+	if k >= j {
+		k++
+	}
+	xj, xk := others[j], others[k]
+	for i := range y {
+		y[i] = xj[i] - xk[i]
+	}
+	return 0
+}
+
+func (m DifferentialSliceMove) width() float64 { return sliceWidth(m.Width) }
+func (m DifferentialSliceMove) maxSteps() int  { return sliceSteps(m.MaxSteps) }
+
+func (m DifferentialSliceMove) check(dim, others int) error {
+	if err := checkSlice("differential slice move", m.Width, m.MaxSteps); err != nil {
+		return err
+	}
+	if others < 2 {
+		return fmt.Errorf("differential slice move: needs at least 2 walkers in each half, have %d", others)
+	}
+	return nil
+}
+
+// String describes the move and its settings, with defaults filled in.
+func (m DifferentialSliceMove) String() string {
+	return "differential-slice(width=" + strconv.FormatFloat(m.width(), 'g', -1, 64) +
+		",max_steps=" + strconv.Itoa(m.maxSteps()) + ")"
+}
+
+// GaussianSliceMove is the Gaussian-direction move of ensemble slice
+// sampling (Karamanis & Beutler 2021, Stat. Comput. 31, 61, §3.3): the
+// direction is drawn as η = 2μ·ξ with ξ ~ N(0, C_S), C_S being the sample
+// covariance (divisor |S|) of the other half S, and the walker is moved by
+// slice sampling along X + t·η as in DifferentialSliceMove, whose width
+// tuning it shares. ξ is drawn without factorising C_S as
+// Σ_{j∈S} z_j (X_j − X̄_S)/√|S| with z_j independent standard normal, which
+// has covariance C_S exactly and needs no full-rank C_S.
+type GaussianSliceMove struct {
+	// Width is the initial width μ₀ > 0; zero means 1, the paper's choice.
+	Width float64
+	// MaxSteps bounds the stepping-out expansions per update (Neal's m);
+	// zero means 10000.
+	MaxSteps int
+}
+
+// Propose implements Move: it writes the direction 2ξ into y.
+func (m GaussianSliceMove) Propose(y, x []float64, others [][]float64, src *rand.Rand) float64 {
+	n := len(others)
+	// 2 Σ z_j (X_j − X̄)/√n = Σ c_j X_j with c_j = 2 (z_j − z̄)/√n.
+	bufp := walkScratch.Get().(*[]float64)
+	if cap(*bufp) < n {
+		*bufp = make([]float64, n)
+	}
+	z := (*bufp)[:n]
+	var zbar float64
+	for j := range z {
+		z[j] = src.NormFloat64()
+		zbar += z[j]
+	}
+	zbar /= float64(n)
+	f := 2 / math.Sqrt(float64(n))
+	clear(y)
+	for j, xj := range others {
+		c := f * (z[j] - zbar)
+		for i := range y {
+			y[i] += c * xj[i]
+		}
+	}
+	walkScratch.Put(bufp)
+	return 0
+}
+
+func (m GaussianSliceMove) width() float64 { return sliceWidth(m.Width) }
+func (m GaussianSliceMove) maxSteps() int  { return sliceSteps(m.MaxSteps) }
+
+func (m GaussianSliceMove) check(dim, others int) error {
+	return checkSlice("Gaussian slice move", m.Width, m.MaxSteps)
+}
+
+// String describes the move and its settings, with defaults filled in.
+func (m GaussianSliceMove) String() string {
+	return "gaussian-slice(width=" + strconv.FormatFloat(m.width(), 'g', -1, 64) +
+		",max_steps=" + strconv.Itoa(m.maxSteps()) + ")"
+}
+
+func sliceWidth(w float64) float64 {
+	if w == 0 {
+		return 1
+	}
+	return w
+}
+
+func sliceSteps(m int) int {
+	if m == 0 {
+		return 10000
+	}
+	return m
+}
+
+func checkSlice(name string, width float64, steps int) error {
+	if !(width >= 0) || math.IsInf(width, 0) {
+		return fmt.Errorf("%s: width %v, want a finite positive value", name, width)
+	}
+	if steps < 0 {
+		return fmt.Errorf("%s: at most %d stepping-out steps, want a positive number", name, steps)
+	}
+	return nil
 }

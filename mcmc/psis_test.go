@@ -57,8 +57,10 @@ func closeRel(got, want, tol float64) bool {
 	return math.Abs(got-want) <= tol*math.Abs(want)
 }
 
-// loo's matrices: a synthetic pair of models of one data set.
-var looMatrices = []string{"synthetic_a", "synthetic_b"}
+// loo's matrices: a synthetic pair of models of one data set, and the
+// pointwise log-likelihoods of two short mirabilis fits of one mock catalog
+// (a straight and a kinked arm), written by "mirabilis compare --pointwise".
+var looMatrices = []string{"synthetic_a", "synthetic_b", "fit_a", "fit_b"}
 
 // elpd_loo, p_loo, looic, WAIC and their standard errors, and every
 // observation's elpd_loo and k̂, against R loo 2.5.1 (loo(x, r_eff = NA),
@@ -131,8 +133,8 @@ func TestPSISLOOAgainstR(t *testing.T) {
 // minus the better).
 func TestPairedDifferenceAgainstR(t *testing.T) {
 	rows := readCSV(t, "../testdata/loo/loo_compare.csv")
-	if len(rows) < 1 {
-		t.Fatalf("%d comparisons in the reference, want 1", len(rows))
+	if len(rows) != 2 {
+		t.Fatalf("%d comparisons in the reference, want 2", len(rows))
 	}
 	for _, r := range rows {
 		_, a := readMatrix(t, "../testdata/loo/"+r[0]+".csv")

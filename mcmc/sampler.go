@@ -74,6 +74,27 @@ type Result struct {
 	// MAP is the result of the MAP search when Start.FindMAP was set (nil
 	// otherwise, and after a resume).
 	MAP *MAPResult
+	// Evaluations is the number of log-density evaluations of the whole
+	// run (start and steps, over all calls of a resumed run; not the MAP
+	// search, which reports its own). TunedEvaluations is the number made
+	// up to the end of step TuneSteps (the start's when TuneSteps is 0), so
+	// that Evaluations − TunedEvaluations were spent on the steps after
+	// tuning.
+	Evaluations, TunedEvaluations int64
+	// Seconds is the wall-clock time spent sampling (the start and the
+	// steps, over all calls of a resumed run).
+	Seconds float64
+	// TuneSteps is the settings' TuneSteps.
+	TuneSteps int
+	// Moves describes each move, as in a checkpoint.
+	Moves []string
+	// Widths holds each move's slice width μ at the end of the run (frozen
+	// after TuneSteps); 0 for the moves that are not slice moves.
+	Widths []float64
+	// Weights holds each move's probability of being chosen at the end of
+	// the run (adapted during TuneSteps with AdaptWeights, else the
+	// settings' weights normalised).
+	Weights []float64
 }
 
 // AcceptanceFraction returns each walker's acceptance fraction.
@@ -162,8 +183,29 @@ type sampler struct {
 	moveSrc  *rand.PCG
 	moveRand *rand.Rand
 	cumW     []float64 // cumulative move weights, normalised
+	weights  []float64 // move weights, normalised (adapted while tuning)
+	width    []float64 // slice width μ of each move (0 for the others)
+
+	// Evaluation accounting and tuning statistics. The per-walker counts
+	// are filled by the workers and summed in walker order after each
+	// half-step, so that nothing depends on the number of threads.
+	evals      int64     // evaluations so far
+	tunedEvals int64     // evaluations up to the end of tuning
+	seconds    float64   // sampling time of earlier calls
+	nEval      []int64   // per walker, this step
+	nExp, nCon []int64   // per walker, this step: slice expansions and contractions
+	jump       []float64 // per walker, this step: squared jump in units of spread
+	spread     []float64 // per parameter: ensemble spread at the start of the step
+	rate       []float64 // per move: squared jump per evaluation (NaN: never measured)
+	winJump    []float64 // per move: squared jumps in the current window
+	winEval    []float64 // per move: evaluations in the current window
+	cost       []float64 // per move: evaluations per step (NaN: never measured)
+	winSteps   []float64 // per move: steps in the current window
+	adapting   bool      // weights adapt in this step
+	moveIdx    int       // the move of this step
 
 	step      int
+	loopBegan time.Time // when this call's loop began
 	lastTau   []float64
 	converged bool
 	status    Status
@@ -174,7 +216,7 @@ type sampler struct {
 	cw    *chainWriter
 
 	pool    *pool
-	scratch [][]float64 // one proposal buffer per worker
+	scratch [][]float64 // two proposal buffers per worker, 2w and 2w+1
 	errs    []error     // per walker, filled by workers
 
 	// per-half-step arguments of advance
@@ -206,16 +248,31 @@ func newSampler(p Problem, set Settings) *sampler {
 	for _, m := range set.Moves {
 		total += m.Weight
 	}
-	var c float64
-	for _, m := range set.Moves {
-		c += m.Weight / total
-		s.cumW = append(s.cumW, c)
+	w := make([]float64, len(set.Moves))
+	s.width = make([]float64, len(set.Moves))
+	s.rate = make([]float64, len(set.Moves))
+	s.winJump = make([]float64, len(set.Moves))
+	s.winEval = make([]float64, len(set.Moves))
+	s.cost = make([]float64, len(set.Moves))
+	s.winSteps = make([]float64, len(set.Moves))
+	for k, m := range set.Moves {
+		w[k] = m.Weight / total
+		if sm, ok := m.Move.(sliceMove); ok {
+			s.width[k] = sm.width()
+		}
+		s.rate[k], s.cost[k] = math.NaN(), math.NaN()
 	}
+	s.setWeights(w)
+	s.nEval = make([]int64, s.nw)
+	s.nExp = make([]int64, s.nw)
+	s.nCon = make([]int64, s.nw)
+	s.jump = make([]float64, s.nw)
+	s.spread = make([]float64, s.dim)
 	half := s.nw / 2
 	s.halves = [2][][]float64{s.pos[:half], s.pos[half:]}
 	threads := min(set.Threads, s.nw)
 	s.pool = newPool(threads)
-	s.scratch = make([][]float64, threads)
+	s.scratch = make([][]float64, 2*threads)
 	for i := range s.scratch {
 		s.scratch[i] = make([]float64, s.dim)
 	}
@@ -312,9 +369,11 @@ func (s *sampler) begin(st Start) error {
 		s.mapRes = res
 		copy(center, res.X)
 	}
+	began := time.Now()
 	s.pool.run(s.nw, func(_, i int) {
 		x, r := s.pos[i], s.rands[i]
 		for try := 0; try < draws; try++ {
+			s.nEval[i]++
 			if st.Draw != nil {
 				st.Draw(i, x, r)
 			} else {
@@ -340,6 +399,9 @@ func (s *sampler) begin(st Start) error {
 	if err := s.firstError(); err != nil {
 		return err
 	}
+	s.countEvaluations()
+	s.tunedEvals = s.evals
+	s.seconds = time.Since(began).Seconds()
 	if s.set.ChainPath != "" {
 		cw, err := createChainFile(s.set.ChainPath, s.set.Names, s.nw)
 		if err != nil {
@@ -374,6 +436,9 @@ func (s *sampler) restore() error {
 		diff = fmt.Sprintf("parameters %v, settings have %v", ck.Names, s.set.Names)
 	case !slices.Equal(ck.Moves, moves) || !slices.Equal(ck.Weights, weights):
 		diff = fmt.Sprintf("moves %v with weights %v, settings have %v with %v", ck.Moves, ck.Weights, moves, weights)
+	case ck.Tuning.Steps != s.set.TuneSteps || ck.Tuning.Adapt != s.set.AdaptWeights:
+		diff = fmt.Sprintf("%d tuning steps (adapting weights: %t), settings have %d (%t)",
+			ck.Tuning.Steps, ck.Tuning.Adapt, s.set.TuneSteps, s.set.AdaptWeights)
 	}
 	if diff != "" {
 		return fmt.Errorf("resuming: checkpoint %s was written with %s", s.set.CheckpointPath, diff)
@@ -388,6 +453,9 @@ func (s *sampler) restore() error {
 	}
 	if err := s.moveSrc.UnmarshalBinary(ck.moveStream); err != nil {
 		return fmt.Errorf("resuming: checkpoint %s: move-choice stream: %w", s.set.CheckpointPath, err)
+	}
+	if err := s.restoreTuning(ck); err != nil {
+		return fmt.Errorf("resuming: checkpoint %s: %w", s.set.CheckpointPath, err)
 	}
 	s.step = ck.Step
 	s.lastTau = ck.LastTau
@@ -407,6 +475,7 @@ func (s *sampler) restore() error {
 // loop runs steps until a stopping rule holds.
 func (s *sampler) loop(ctx context.Context) error {
 	began := time.Now()
+	s.loopBegan = began
 	first := s.step
 	saved := true // the state at s.step is in a checkpoint (or needs none)
 	for {
@@ -469,7 +538,12 @@ func (s *sampler) takeStep() error {
 	for k < len(s.cumW)-1 && u >= s.cumW[k] {
 		k++
 	}
+	s.moveIdx = k
 	s.move = s.set.Moves[k].Move
+	s.adapting = s.set.AdaptWeights && s.step < s.set.TuneSteps && len(s.set.Moves) > 1
+	if s.adapting {
+		s.measureSpread()
+	}
 	half := s.nw / 2
 	for h := 0; h < 2; h++ {
 		s.first = h * half
@@ -480,6 +554,7 @@ func (s *sampler) takeStep() error {
 		}
 	}
 	s.step++
+	s.tune()
 	return nil
 }
 
@@ -487,31 +562,284 @@ func (s *sampler) takeStep() error {
 // s.first+k, using worker's proposal buffer.
 func (s *sampler) advanceWalker(worker, k int) {
 	i := s.first + k
-	x, r, y := s.pos[i], s.rands[i], s.scratch[worker]
+	if m, ok := s.move.(sliceMove); ok {
+		s.sliceWalker(i, s.scratch[2*worker], s.scratch[2*worker+1], m)
+		return
+	}
+	x, r, y := s.pos[i], s.rands[i], s.scratch[2*worker]
 	logf := s.move.Propose(y, x, s.others, r)
 	if math.IsNaN(logf) {
 		s.errs[i] = fmt.Errorf("walker %d: move %s returned a NaN log-factor for the proposal %s", i, describeMove(s.move), s.point(y))
 		return
 	}
-	v, err := s.eval(y)
-	if err != nil {
-		s.errs[i] = fmt.Errorf("walker %d at %s: %w", i, s.point(y), err)
-		return
-	}
-	if math.IsNaN(v) || math.IsInf(v, 1) {
-		s.errs[i] = fmt.Errorf("walker %d: log-density is %v at %s", i, v, s.point(y))
-		return
-	}
-	if math.IsInf(v, -1) {
+	v, ok := s.evalWalker(i, y)
+	if !ok || math.IsInf(v, -1) {
 		return
 	}
 	d := logf + v - s.lp[i]
 	if d < 0 && !(math.Log(r.Float64()) < d) {
 		return
 	}
+	s.moveWalker(i, y, v)
+}
+
+// evalWalker evaluates the log-density at y for walker i, counting the
+// evaluation; on a NaN, +Inf or a panic it records the walker's error and
+// returns false.
+func (s *sampler) evalWalker(i int, y []float64) (float64, bool) {
+	s.nEval[i]++
+	v, err := s.eval(y)
+	if err != nil {
+		s.errs[i] = fmt.Errorf("walker %d at %s: %w", i, s.point(y), err)
+		return v, false
+	}
+	if math.IsNaN(v) || math.IsInf(v, 1) {
+		s.errs[i] = fmt.Errorf("walker %d: log-density is %v at %s", i, v, s.point(y))
+		return v, false
+	}
+	return v, true
+}
+
+// moveWalker moves walker i to y, where the log-density is v.
+func (s *sampler) moveWalker(i int, y []float64, v float64) {
+	x := s.pos[i]
+	if s.adapting {
+		var d float64
+		for j, sd := range s.spread {
+			if sd > 0 {
+				e := (y[j] - x[j]) / sd
+				d += e * e
+			}
+		}
+		s.jump[i] = d
+	}
 	copy(x, y)
 	s.lp[i] = v
 	s.accepted[i]++
+}
+
+// maxShrink bounds the contractions of one slice update. Each contraction
+// at least halves the interval on average, so a log-density that is the
+// same function at every call finds a point long before; reaching the
+// bound means it is not.
+const maxShrink = 1000
+
+// sliceWalker moves walker i by slice sampling along the direction of the
+// slice move m scaled by the move's width (Neal 2003, Ann. Stat. 31, 705:
+// the level under the current point, stepping out with at most m's
+// maxSteps expansions split at random between the two ends as in his
+// Fig. 3, and shrinking as in his Fig. 5), using eta and y as work space.
+// Every random number comes from the walker's own stream.
+func (s *sampler) sliceWalker(i int, eta, y []float64, m sliceMove) {
+	x, r := s.pos[i], s.rands[i]
+	m.Propose(eta, x, s.others, r)
+	mu := s.width[s.moveIdx]
+	for j := range eta {
+		eta[j] *= mu
+	}
+	level := s.lp[i] - r.ExpFloat64() // ln of a uniform height under p(x)
+	left := -r.Float64()
+	right := left + 1
+	steps := m.maxSteps()
+	jl := int(float64(steps) * r.Float64())
+	kr := steps - 1 - jl
+	at := func(t float64) (float64, bool) {
+		for j := range y {
+			y[j] = x[j] + t*eta[j]
+		}
+		return s.evalWalker(i, y)
+	}
+	for ; jl > 0; jl-- {
+		v, ok := at(left)
+		if !ok {
+			return
+		}
+		if !(v > level) {
+			break
+		}
+		left--
+		s.nExp[i]++
+	}
+	for ; kr > 0; kr-- {
+		v, ok := at(right)
+		if !ok {
+			return
+		}
+		if !(v > level) {
+			break
+		}
+		right++
+		s.nExp[i]++
+	}
+	for range maxShrink {
+		t := left + r.Float64()*(right-left)
+		v, ok := at(t)
+		if !ok {
+			return
+		}
+		if v > level {
+			s.moveWalker(i, y, v)
+			return
+		}
+		if t < 0 {
+			left = t
+		} else {
+			right = t
+		}
+		s.nCon[i]++
+	}
+	s.errs[i] = fmt.Errorf("walker %d: slice move %s found no point above the slice in %d contractions from %s: the log-density does not return the same value for the same point",
+		i, describeMove(m), maxShrink, s.point(x))
+}
+
+// measureSpread sets the spread of each parameter over the ensemble (its
+// standard deviation), the unit of the jumps by which the weights adapt.
+func (s *sampler) measureSpread() {
+	for j := range s.spread {
+		var m float64
+		for _, x := range s.pos {
+			m += x[j]
+		}
+		m /= float64(s.nw)
+		var v float64
+		for _, x := range s.pos {
+			v += (x[j] - m) * (x[j] - m)
+		}
+		s.spread[j] = math.Sqrt(v / float64(s.nw-1))
+	}
+}
+
+// countEvaluations adds the walkers' evaluations to the total, in walker
+// order, and clears them.
+func (s *sampler) countEvaluations() int64 {
+	var n int64
+	for i, v := range s.nEval {
+		n += v
+		s.nEval[i] = 0
+	}
+	s.evals += n
+	return n
+}
+
+// tune accounts for the step just taken and, during the tuning steps,
+// tunes the width of its slice move (Karamanis & Beutler 2021, Stat.
+// Comput. 31, 61, Algorithm 4) and adapts the weights (see
+// Settings.AdaptWeights). All sums run in walker order.
+func (s *sampler) tune() {
+	evals := s.countEvaluations()
+	var ne, nc int64
+	var jump float64
+	for i := range s.nExp {
+		ne += s.nExp[i]
+		nc += s.nCon[i]
+		jump += s.jump[i]
+		s.nExp[i], s.nCon[i], s.jump[i] = 0, 0, 0
+	}
+	if s.step > s.set.TuneSteps {
+		return
+	}
+	k := s.moveIdx
+	if s.width[k] > 0 {
+		e := float64(max(ne, 1))
+		s.width[k] *= 2 * e / (e + float64(nc))
+	}
+	if s.adapting {
+		s.winJump[k] += jump
+		s.winEval[k] += float64(evals)
+		s.winSteps[k]++
+		window := max(1, s.set.TuneSteps/5)
+		if last := s.step == s.set.TuneSteps; last || s.step%window == 0 {
+			s.adaptWeights(last)
+		}
+	}
+	if s.step == s.set.TuneSteps {
+		s.tunedEvals = s.evals
+	}
+}
+
+// adaptWeights sets the move weights from the squared jumps per evaluation
+// measured in the window that ends now (see Settings.AdaptWeights).
+func (s *sampler) adaptWeights(last bool) {
+	n := len(s.rate)
+	for k := range s.rate {
+		if s.winEval[k] > 0 {
+			s.rate[k] = s.winJump[k] / s.winEval[k]
+			s.cost[k] = s.winEval[k] / s.winSteps[k]
+		}
+		s.winJump[k], s.winEval[k], s.winSteps[k] = 0, 0, 0
+	}
+	meanOf := func(x []float64) float64 {
+		var m float64
+		var known int
+		for _, v := range x {
+			if !math.IsNaN(v) {
+				m += v
+				known++
+			}
+		}
+		return m / float64(known)
+	}
+	meanRate, meanCost := meanOf(s.rate), meanOf(s.cost)
+	if !(meanRate > 0) || !(meanCost > 0) {
+		return
+	}
+	w := make([]float64, n)
+	var total float64
+	for k, r := range s.rate {
+		c := s.cost[k]
+		if math.IsNaN(r) {
+			r, c = meanRate, meanCost
+		}
+		w[k] = r / c
+		total += w[k]
+	}
+	for k := range w {
+		w[k] /= total
+	}
+	if !last {
+		floor := 0.1 / float64(n)
+		total = 0
+		for k := range w {
+			w[k] = math.Max(w[k], floor)
+			total += w[k]
+		}
+		for k := range w {
+			w[k] /= total
+		}
+	}
+	s.setWeights(w)
+}
+
+// setWeights sets the normalised move weights and their cumulative sums.
+func (s *sampler) setWeights(w []float64) {
+	s.weights = w
+	s.cumW = s.cumW[:0]
+	var c float64
+	for _, v := range w {
+		c += v
+		s.cumW = append(s.cumW, c)
+	}
+	s.cumW[len(s.cumW)-1] = 1
+}
+
+// elapsed returns the sampling time of the run so far, in seconds.
+func (s *sampler) elapsed() float64 {
+	if s.loopBegan.IsZero() {
+		return s.seconds
+	}
+	return s.seconds + time.Since(s.loopBegan).Seconds()
+}
+
+// evaluationsPerStep returns the mean evaluations per step since the end of
+// tuning, or since the start while tuning.
+func (s *sampler) evaluationsPerStep() float64 {
+	if s.step > s.set.TuneSteps {
+		return float64(s.evals-s.tunedEvals) / float64(s.step-s.set.TuneSteps)
+	}
+	if s.step > 0 {
+		return float64(s.evals) / float64(s.step)
+	}
+	return math.NaN()
 }
 
 // keep appends the current state to the chain file, or to the chain in memory
@@ -545,17 +873,7 @@ func (s *sampler) estimateTau(maxRows int) ([]float64, bool) {
 	}
 	allOK := s.chain.Len() > 0
 	for j := range tau {
-		series := s.chain.Series(j, 0)
-		if f > 1 {
-			for k, x := range series {
-				m := 0
-				for t := f - 1; t < len(x); t += f {
-					x[m] = x[t]
-					m++
-				}
-				series[k] = x[:m]
-			}
-		}
+		series := s.chain.seriesEvery(j, f)
 		t, ok := AutocorrTime(series, s.set.Window)
 		tau[j] = t * float64(s.set.Thin*f)
 		allOK = allOK && ok && !math.IsNaN(t)
@@ -575,7 +893,8 @@ func (s *sampler) checkTau() {
 			conv = false
 		}
 	}
-	s.converged = conv && float64(s.step) > s.set.TauFactor*worst
+	ess := float64(s.nw*(s.step-s.set.TuneSteps)) / worst
+	s.converged = conv && float64(s.step) > s.set.TauFactor*worst && (s.set.MinESS == 0 || ess >= s.set.MinESS)
 	s.lastTau = tau
 }
 
@@ -596,6 +915,7 @@ func (s *sampler) checkpoint(final bool) error {
 		}
 		if reply.TargetChanged {
 			s.pool.run(s.nw, func(_, i int) {
+				s.nEval[i]++
 				v, err := s.eval(s.pos[i])
 				switch {
 				case err != nil:
@@ -609,6 +929,7 @@ func (s *sampler) checkpoint(final bool) error {
 			if err := s.firstError(); err != nil {
 				return fmt.Errorf("checkpoint at step %d: after the target changed: %w", s.step, err)
 			}
+			s.countEvaluations()
 		}
 	}
 	if s.cw != nil {
@@ -626,6 +947,7 @@ func (s *sampler) checkpoint(final bool) error {
 		Positions: s.pos, LogDensity: s.lp, Accepted: s.accepted,
 		Kept: s.chain.Len(), LastTau: s.lastTau, Extra: s.extra,
 		Converged: s.converged,
+		Tuning:    s.saveTuning(),
 	}
 	if s.cw != nil {
 		ck.ChainBytes, ck.ChainCRC = s.cw.size, s.cw.crc
@@ -653,6 +975,36 @@ func (s *sampler) checkpoint(final bool) error {
 	return nil
 }
 
+// saveTuning returns the tuning and accounting state for a checkpoint.
+func (s *sampler) saveTuning() Tuning {
+	return Tuning{
+		Steps: s.set.TuneSteps, Adapt: s.set.AdaptWeights,
+		Widths: s.width, Weights: s.weights, Rates: s.rate,
+		WindowJumps: s.winJump, WindowEvaluations: s.winEval,
+		Costs: s.cost, WindowSteps: s.winSteps,
+		Evaluations: s.evals, TunedEvaluations: s.tunedEvals, Seconds: s.elapsed(),
+	}
+}
+
+// restoreTuning takes the tuning and accounting state from a checkpoint.
+func (s *sampler) restoreTuning(ck *Checkpoint) error {
+	t := ck.Tuning
+	n := len(s.set.Moves)
+	if len(t.Widths) != n || len(t.Weights) != n || len(t.Rates) != n || len(t.WindowJumps) != n ||
+		len(t.WindowEvaluations) != n || len(t.Costs) != n || len(t.WindowSteps) != n {
+		return fmt.Errorf("tuning state for %d moves, settings have %d", len(t.Widths), n)
+	}
+	copy(s.width, t.Widths)
+	copy(s.rate, t.Rates)
+	copy(s.winJump, t.WindowJumps)
+	copy(s.winEval, t.WindowEvaluations)
+	copy(s.cost, t.Costs)
+	copy(s.winSteps, t.WindowSteps)
+	s.setWeights(append([]float64(nil), t.Weights...))
+	s.evals, s.tunedEvals, s.seconds = t.Evaluations, t.TunedEvaluations, t.Seconds
+	return nil
+}
+
 // progress assembles a progress report.
 func (s *sampler) progress(began time.Time, first int, done bool) Progress {
 	el := time.Since(began)
@@ -673,6 +1025,9 @@ func (s *sampler) progress(began time.Time, first int, done bool) Progress {
 	if sec := el.Seconds(); sec > 0 && s.step > first {
 		pr.StepsPerSecond = float64(s.step-first) / sec
 	}
+	pr.Evaluations = s.evals
+	pr.EvaluationsPerStep = s.evaluationsPerStep()
+	pr.TauEvaluations = pr.Tau * pr.EvaluationsPerStep
 	if done {
 		pr.ETA = 0
 		return pr
@@ -693,6 +1048,7 @@ func (s *sampler) progress(began time.Time, first int, done bool) Progress {
 // result assembles the Result. A chain written to a file is handed over read
 // back from the file, memory-mapped.
 func (s *sampler) result() (*Result, error) {
+	moveNames, _ := s.set.moveDescriptions()
 	r := &Result{
 		Chain:      s.chain,
 		Step:       s.step,
@@ -702,6 +1058,14 @@ func (s *sampler) result() (*Result, error) {
 		LogDensity: append([]float64(nil), s.lp...),
 		Extra:      s.extra,
 		MAP:        s.mapRes,
+
+		Evaluations:      s.evals,
+		TunedEvaluations: s.tunedEvals,
+		Seconds:          s.elapsed(),
+		TuneSteps:        s.set.TuneSteps,
+		Widths:           append([]float64(nil), s.width...),
+		Moves:            moveNames,
+		Weights:          append([]float64(nil), s.weights...),
 	}
 	for i, x := range s.pos {
 		r.Positions[i] = append([]float64(nil), x...)

@@ -68,6 +68,28 @@ type Settings struct {
 	// probability proportional to its weight from a stream of its own.
 	// Nil means the stretch move with a = 2 alone.
 	Moves []WeightedMove
+	// TuneSteps is the number of steps at the start of the run during which
+	// the slice moves tune their widths (see DifferentialSliceMove) and,
+	// with AdaptWeights, the move weights adapt. Both are frozen from step
+	// TuneSteps+1 on, so that the chain after TuneSteps is a Markov chain
+	// with a fixed transition kernel; leave at least those steps out of
+	// estimates. Zero means no tuning.
+	TuneSteps int
+	// AdaptWeights makes the move weights adapt during the first TuneSteps
+	// steps: the tuning period is cut into five windows, and at the end of
+	// each the weights are set so that each move's share of the
+	// log-density evaluations is proportional to its expected squared jump
+	// distance per evaluation in that window (Pasarica & Gelman 2010, Stat.
+	// Sinica 20, 343, use the expected squared jump distance to rank
+	// proposals), the jump of each parameter measured in units of its
+	// spread over the ensemble: the weight of move k is proportional to
+	// r_k/e_k, r_k being its squared jump per evaluation and e_k its
+	// evaluations per step. Until the last window every move keeps a
+	// weight of at least 0.1/(number of moves) so that it is still
+	// measured; after the last, the weights are frozen. A move never used
+	// in a window keeps its previous measurements; a move never measured
+	// gets the mean of the others.
+	AdaptWeights bool
 
 	// Steps is the total length of the chain in steps, counted from the
 	// start of the run, so that a resumed run stops at the same step as an
@@ -75,9 +97,10 @@ type Settings struct {
 	// means no bound.
 	Steps int
 	// AutoStop stops the run once the chain is longer than TauFactor times
-	// the largest integrated autocorrelation time and no parameter's time
+	// the largest integrated autocorrelation time, no parameter's time
 	// has changed by more than TauTolerance (relative) since the previous
-	// check, which happens every TauEvery steps.
+	// check, which happens every TauEvery steps, and every parameter has an
+	// effective sample size of at least MinESS after the tuning steps.
 	AutoStop bool
 	// TauFactor is the required chain length in autocorrelation times.
 	// Zero means 50.
@@ -88,6 +111,10 @@ type Settings struct {
 	// TauEvery is the number of steps between estimates of the
 	// autocorrelation times (for AutoStop and Progress). Zero means 500.
 	TauEvery int
+	// MinESS is the effective sample size that, with AutoStop, every
+	// parameter must also reach before the run stops: W·(step −
+	// TuneSteps)/τ for W walkers and τ in steps. Zero means no such bound.
+	MinESS float64
 	// Window is the constant c of Sokal's automatic window for the
 	// autocorrelation time. Zero means 5.
 	Window float64
@@ -182,6 +209,14 @@ type Progress struct {
 	// Tau is the largest integrated autocorrelation time (in steps) at the
 	// last estimate, NaN before the first.
 	Tau float64
+	// Evaluations is the number of log-density evaluations of the run so
+	// far (the start and every step, over all calls of a resumed run).
+	Evaluations int64
+	// EvaluationsPerStep is the mean number of evaluations per step (over
+	// all walkers) since the end of the tuning steps, or since the start
+	// while tuning; TauEvaluations is Tau times it, the autocorrelation
+	// time in evaluations.
+	EvaluationsPerStep, TauEvaluations float64
 	// StepsPerSecond is the speed of this call so far.
 	StepsPerSecond float64
 	// Elapsed is the wall-clock time of this call so far.
@@ -235,6 +270,12 @@ func (s Settings) filled(dim int) (Settings, error) {
 				return s, err
 			}
 		}
+	}
+	switch {
+	case s.TuneSteps < 0:
+		return s, fmt.Errorf("tuning steps = %d, want a non-negative number", s.TuneSteps)
+	case !(s.MinESS >= 0) || math.IsInf(s.MinESS, 0):
+		return s, fmt.Errorf("minimum effective sample size %v, want a finite non-negative value", s.MinESS)
 	}
 	if s.Steps < 0 {
 		return s, fmt.Errorf("steps = %d, want a non-negative number", s.Steps)

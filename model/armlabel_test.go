@@ -37,3 +37,14 @@ func TestArmLabelsIgnoreCase(t *testing.T) {
 		t.Errorf("misspelt label: %v", err)
 	}
 }
+
+// TestUnknownParameterSuggestion checks that a misspelt parameter name in a parameter set
+// gets the nearest global name suggested.
+func TestUnknownParameterSuggestion(t *testing.T) {
+	values := map[string]float64{"R0": 8.25, "Theta0": 232, "dTheta_dR": -0.6, "Usun": 10.5, "Vsun": 12.5, "Wsun": 7.5,
+		"Us": 2, "Vs": -3, "Ws": 0, "sigma_vr": 6}
+	_, _, err := MotionFromParams(values, CurveSettings{RCore: DefaultCoreRadius})
+	if err == nil || !strings.Contains(err.Error(), `unknown parameter "sigma_vr" (did you mean sigma_vir?)`) {
+		t.Errorf("got %v", err)
+	}
+}

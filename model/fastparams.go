@@ -29,7 +29,7 @@ type armSlots struct {
 	rref, pitch, width, pitch2, kink slot
 }
 
-// derivedKind names a derived quantity of MODEL §6 that a prior may be placed on.
+// derivedKind names a derived quantity of package model, Parameters that a prior may be placed on.
 type derivedKind int
 
 const (

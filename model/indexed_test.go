@@ -1,12 +1,15 @@
 package model
 
 import (
+	"context"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"sort"
 	"strings"
 	"testing"
 
+	"github.com/mirabilis-astro/mirabilis/mcmc"
 	"github.com/mirabilis-astro/mirabilis/model/param"
 	"github.com/mirabilis-astro/mirabilis/model/prior"
 )
@@ -261,4 +264,42 @@ func indexedBuild(t testing.TB, c indexedCase, spec *Spec, src []Source) (*Likel
 		t.Fatal(err)
 	}
 	return L, p
+}
+
+// TestChainSameForAnyThreadCount samples the posterior with 1, 2 and 8 threads, the log
+// density sharing its sources among the threads no walker keeps busy (as a fit does), and
+// checks that the walkers end in the same state, bit for bit.
+func TestChainSameForAnyThreadCount(t *testing.T) {
+	c := indexedCases[0]
+	spec := indexedSpec(t, c)
+	L, _ := indexedBuild(t, c, spec, indexedSources(70, 3))
+	p := indexedPosterior(t, c, L)
+	x0, err := p.Point(pointValues(c))
+	if err != nil {
+		t.Fatal(err)
+	}
+	scale := make([]float64, len(x0))
+	for k, v := range x0 {
+		scale[k] = 1e-3 * math.Max(1, math.Abs(v))
+	}
+	var first *mcmc.Result
+	for _, threads := range []int{1, 2, 8} {
+		set := &mcmc.Settings{Seed: 21, Threads: threads, Steps: 6}
+		res, err := mcmc.Run(context.Background(), mcmc.Problem{
+			LogDensity: func(x []float64) float64 { return p.LogDensityParallel(x, threads) },
+			Dim:        p.Dim(),
+		}, mcmc.Start{Center: x0, Scale: scale}, set)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if first == nil {
+			first = res
+			continue
+		}
+		for w := range res.Positions {
+			if res.LogDensity[w] != first.LogDensity[w] || res.Accepted[w] != first.Accepted[w] || !slices.Equal(res.Positions[w], first.Positions[w]) {
+				t.Fatalf("%d threads: walker %d ends at log density %.17g, with 1 thread %.17g", threads, w, res.LogDensity[w], first.LogDensity[w])
+			}
+		}
+	}
 }

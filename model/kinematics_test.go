@@ -329,7 +329,7 @@ func TestKinematicDistancesNearFar(t *testing.T) {
 }
 
 func TestBarScatter(t *testing.T) {
-	// σ²(R) = σ²_vir + σ²_bar S((R_inner − R)/s_bar), S logistic (MODEL.md §3): S(0) = 1/2,
+	// σ²(R) = σ²_vir + σ²_bar S((R_inner − R)/s_bar), S logistic (package model, Kinematics): S(0) = 1/2,
 	// S(±∞) = 1, 0; S(1) = 1/(1 + e^−1) = 0.7310585786300049 (logistic at 1, from the
 	// definition).
 	b := DefaultBarScatter()

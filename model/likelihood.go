@@ -125,7 +125,7 @@ func (s *Source) logBase(spec *Spec, d float64) float64 {
 }
 
 // logKinematic returns the sum of the log-densities of the source's kinematic residuals at
-// distance d (kpc) under p, with the effective uncertainties of MODEL §3
+// distance d (kpc) under p, with the effective uncertainties of package model, Kinematics
 // (σ²_v,eff = σ²_v + σ²(R), σ²_μ,eff = σ²_μ + (σ(R)/(k d))²), and the prediction.
 func (s *Source) logKinematic(spec *Spec, p *Params, d float64) (float64, Prediction) {
 	pr := p.Motion.Predict(&s.Sight, d)
@@ -410,28 +410,6 @@ func (L *Likelihood) LogL(p *Params) float64 {
 			continue
 		}
 		total += L.SourceLogL(i, p)
-	}
-	return total
-}
-
-// LogLParallel is LogL with the sources shared among workers goroutines (GOMAXPROCS when
-// ≤ 0), for callers that evaluate one parameter set at a time. The terms are added in the
-// same order as LogL, so the result is the same to the last bit.
-func (L *Likelihood) LogLParallel(p *Params, workers int) float64 {
-	terms := make([]float64, len(L.Sources))
-	const block = 16
-	Parallel((len(L.Sources)+block-1)/block, workers, func(b int) {
-		for i := b * block; i < min(len(L.Sources), (b+1)*block); i++ {
-			if !L.Excluded[i] {
-				terms[i] = L.SourceLogL(i, p)
-			}
-		}
-	})
-	var total float64
-	for i, v := range terms {
-		if !L.Excluded[i] {
-			total += v
-		}
 	}
 	return total
 }

@@ -8,8 +8,8 @@ import (
 	"gonum.org/v1/gonum/integrate/quad"
 )
 
-// testSpec is a two-arm galaxy of the project's own invention, with every setting of
-// MODEL.md at its default.
+// testSpec is a two-arm galaxy of the project's own invention, with every setting at
+// its documented default.
 func testSpec(t testing.TB, errors ErrorKind) *Spec {
 	em, err := NewErrorModel(errors, 4)
 	if err != nil {
@@ -210,7 +210,7 @@ func TestMembership(t *testing.T) {
 }
 
 // TestFarFromEverythingFinite: a source whose data the model cannot explain keeps a finite
-// log-likelihood (MODEL §5: log-sum-exp throughout).
+// log-likelihood (package model, Likelihood: log-sum-exp throughout).
 func TestFarFromEverythingFinite(t *testing.T) {
 	spec := testSpec(t, ErrorsGaussian)
 	s := Source{Name: "wild", Sight: NewSightline(10, 0), Plx: 0.5, PlxErr: 0.01, HasV: true, VLSR: true, V: 900, VErr: 1}

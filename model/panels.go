@@ -33,7 +33,7 @@ type LayoutStats struct {
 }
 
 // BuildLayouts lays out every source's quadrature panels so that ln L_i is resolved to the
-// spec's tolerance at each of the pilot parameter sets (MODEL §5): the range is ±5σ in
+// spec's tolerance at each of the pilot parameter sets (package model, Quadrature): the range is ±5σ in
 // parallax clipped to the distance bounds, split at the integrand's features (each arm
 // crossing ± one and three widths, the distances where a predicted kinematic quantity equals
 // the observed one, the parallax peak and every local maximum of the scanned integrand),

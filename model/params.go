@@ -8,6 +8,7 @@ import (
 	"io"
 	"os"
 
+	"github.com/mirabilis-astro/mirabilis/internal/spelling"
 	"github.com/mirabilis-astro/mirabilis/model/param"
 )
 
@@ -170,6 +171,9 @@ func checkUnusedParam(name string, fam CurveFamily, nNodes int) error {
 		return nil // derived for a nodes curve
 	case IsModelParameterName(name):
 		return nil
+	}
+	if near := spelling.Nearest(name, GlobalNames(fam, nNodes)); near != "" {
+		return fmt.Errorf("unknown parameter %q (did you mean %s?)", name, near)
 	}
 	return fmt.Errorf("unknown parameter %q", name)
 }

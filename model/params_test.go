@@ -29,7 +29,7 @@ func TestMotionFromParamsLinear(t *testing.T) {
 	if !slices.Equal(used, want) {
 		t.Errorf("used %v, want %v", used, want)
 	}
-	// Values land where MODEL.md §3 puts them: V⊙ = (U⊙, Θ0 + V⊙, W⊙).
+	// Values land where package model, Kinematics puts them: V⊙ = (U⊙, Θ0 + V⊙, W⊙).
 	if v := m.SunVelocity(); v != [3]float64{10.6, 236 + 10.7, 7.6} {
 		t.Errorf("Sun velocity %v", v)
 	}

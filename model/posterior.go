@@ -230,7 +230,7 @@ func (p *Posterior) LogDensityParallel(x []float64, workers int) float64 {
 	return p.logDensityIndexed(x, workers)
 }
 
-// Derived returns the derived quantities of a parameter set (MODEL §6), keyed by the names
+// Derived returns the derived quantities of a parameter set (package model, Parameters), keyed by the names
 // DerivedNames gives: Omega_sun (Θ0 + V⊙)/R0, Theta0_over_R0, Theta0_plus_Vsun, Oort_A and
 // Oort_B at R0 (km/s/kpc or km/s), Theta0 for the nodes curve (where it is derived, not a
 // parameter) and NAME_Rsun, the radius (kpc) where arm NAME crosses the Sun–centre line

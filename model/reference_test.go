@@ -14,13 +14,13 @@ import (
 )
 
 // The per-source likelihood against an independent implementation: testdata/likelihood/
-// gen_likelihood_ref.py writes the integrand of MODEL.md §5 in numpy and integrates it with
+// gen_likelihood_ref.py writes the integrand of package model, Likelihood in numpy and integrates it with
 // SciPy's adaptive quad (QUADPACK QAGP) over the whole distance range, cross-checked there by
 // a 64 000-node Gauss–Legendre rule to 1e-6 in ln L (SciPy 1.10.1, NumPy 1.24.2, astropy
 // 5.2.1; see that folder's README). The mock is ~300 invented sources with parallax
 // significance from below 1 to ~100, negative parallaxes and inner-Galaxy sightlines.
 //
-// The claims checked are those of MODEL.md §5: every source within 1e-4 in ln L_i at the
+// The claims checked are those stated in package model, section Quadrature: every source within 1e-4 in ln L_i at the
 // pilots; at ten parameter sets one posterior spread away, at most 1 in 200
 // source-evaluations above 1e-3 and none above 1e-2.
 

@@ -88,7 +88,7 @@ func TestNodesCurveShape(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		// Flat beyond both ends (MODEL.md §3), down to the core.
+		// Flat beyond both ends (package model, Kinematics), down to the core.
 		if c.Theta(3) != 210 || c.Theta(2.5) != 210 || c.Theta(20) != 240 || c.Slope(3) != 0 || c.Slope(20) != 0 {
 			t.Errorf("%v: not flat beyond the ends", interp)
 		}
@@ -119,7 +119,7 @@ func TestNodesCurveShape(t *testing.T) {
 }
 
 func TestCurveFormulas(t *testing.T) {
-	// MODEL.md §3: linear Θ0 + (dΘ/dR)(R − R0), power Θ0 (R/R0)^α, solid body inside R_core.
+	// package model, Kinematics: linear Θ0 + (dΘ/dR)(R − R0), power Θ0 (R/R0)^α, solid body inside R_core.
 	lin, _ := NewLinearCurve(8, 230, -2, 2)
 	if lin.Theta(8) != 230 || math.Abs(lin.Theta(12)-222) > 1e-12 || math.Abs(lin.Theta(1)-(230-2*(2-8))/2.0) > 1e-12 {
 		t.Errorf("linear: %v %v %v", lin.Theta(8), lin.Theta(12), lin.Theta(1))

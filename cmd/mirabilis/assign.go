@@ -87,6 +87,7 @@ func runAssign(env *runEnv, o *assignOptions, args []string) error {
 	if err != nil {
 		return err
 	}
+	defer run.Close()
 	draws := run.Draws(o.draws, 0)
 	median, err := fit.MedianParams(run.Job, draws)
 	if err != nil {
@@ -105,8 +106,8 @@ func runAssign(env *runEnv, o *assignOptions, args []string) error {
 		return err
 	}
 	burn := run.Burn(0)
-	fmt.Fprintf(env.stdout, "Run %s: %d posterior draws from steps %d–%d (after a burn-in of %d).\n",
-		args[0], len(draws), run.Chain.Step(burn), run.Chain.Step(run.Chain.Len()-1), burn)
+	fmt.Fprintf(env.stdout, "Averaged over %d posterior draws of the run in %s (steps %d–%d, after a burn-in of %d).\n",
+		len(draws), args[0], run.Chain.Step(burn), run.Chain.Step(run.Chain.Len()-1), burn)
 	for _, a := range res {
 		writeAssignment(env.stdout, &a)
 	}

@@ -203,7 +203,7 @@ func (p *progress) clear() {
 func (p *progress) update(pg mcmc.Progress) {
 	tau := "τ –"
 	if !math.IsNaN(pg.Tau) {
-		tau = fmt.Sprintf("τ %.0f", pg.Tau)
+		tau = fmt.Sprintf("τ %.0f steps = %.0f evaluations", pg.Tau, pg.TauEvaluations)
 	}
 	eta := ""
 	if pg.ETA >= 0 {
@@ -213,7 +213,8 @@ func (p *progress) update(pg mcmc.Progress) {
 	if pg.Steps > 0 {
 		total = fmt.Sprintf("/%d", pg.Steps)
 	}
-	line := fmt.Sprintf("step %d%s · acceptance %.2f · %s · %.1f steps/s%s", pg.Step, total, pg.Acceptance, tau, pg.StepsPerSecond, eta)
+	line := fmt.Sprintf("step %d%s · acceptance %.2f · %s · %d evaluations · %.1f steps/s%s",
+		pg.Step, total, pg.Acceptance, tau, pg.Evaluations, pg.StepsPerSecond, eta)
 	p.lastLine = line
 	if p.tty {
 		fmt.Fprint(p.w, "\r\033[K"+line)

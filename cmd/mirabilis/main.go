@@ -74,6 +74,8 @@ var commands = []*command{
 	simulateCommand,
 	checkCommand,
 	predictCommand,
+	compareCommand,
+	batchCommand,
 	demoCommand,
 }
 

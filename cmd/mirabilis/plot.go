@@ -102,6 +102,7 @@ func runPlot(env *runEnv, o *plotOptions, args []string) error {
 	if err != nil {
 		return err
 	}
+	defer closeRuns(runs)
 	run, err := fit.MergeRuns(runs)
 	if err != nil {
 		return err

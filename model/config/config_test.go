@@ -65,7 +65,7 @@ func TestGoodConfigsLoad(t *testing.T) {
 	if demo.Arms[3].RefAzimuth != 20 || demo.Arms[3].AzimuthRange[1] != 400 {
 		t.Errorf("demo: Halcyon = %+v", demo.Arms[3])
 	}
-	if len(demo.DerivedPriors) != 1 || demo.DerivedPriors[0] != (Param{param.OmegaSun, prior.Normal{Mu: 29.65, Sigma: 1}}) {
+	if len(demo.DerivedPriors) != 1 || demo.DerivedPriors[0] != (Param{Name: param.OmegaSun, Prior: prior.Normal{Mu: 29.65, Sigma: 1}}) {
 		t.Errorf("demo: derived priors %v", demo.DerivedPriors)
 	}
 	s := demo.Sampler
@@ -135,9 +135,10 @@ func TestHelpMentionsEverySetting(t *testing.T) {
 }
 
 // TestDefaults checks the defaults filled into a minimal file against the
-// values fixed in MODEL.md (§3 R_core, R_inner, σ_bar, s_bar; §4 τ, h,
-// concentration; §5 distance range, tolerance, error model, distance prior;
-// §7 stretch scale) and the documented default priors.
+// values stated in package model (Kinematics: R_core, R_inner, σ_bar, s_bar;
+// Arms: τ, h, concentration; Likelihood and Quadrature: distance range,
+// tolerance, error model, distance prior), the stretch scale of Goodman &
+// Weare (2010) and the documented default priors.
 func TestDefaults(t *testing.T) {
 	c := load(t, "minimal.toml")
 	if c.Rotation.Curve != model.CurveLinear || c.Rotation.CoreRadius != 2 || c.Rotation.NodeRadii != nil || c.Rotation.Interpolation != "" {
@@ -159,7 +160,7 @@ func TestDefaults(t *testing.T) {
 	}
 	s := c.Sampler
 	if s != (Sampler{Walkers: 32, Steps: 0, MaxSteps: 20000, Burn: 0, Seed: 1, Threads: 0, CheckpointEvery: 200,
-		Moves: Moves{Stretch: 1}, StretchScale: 2}) {
+		Moves: Moves{DiffEvolution: 1, DiffSlice: 1}, AdaptWeights: true, MinESS: 1000, StretchScale: 2}) {
 		t.Errorf("sampler defaults %+v", s)
 	}
 	want := map[string]string{

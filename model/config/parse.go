@@ -81,6 +81,8 @@ type fileSampler struct {
 	Threads         *int64     `toml:"threads"`
 	CheckpointEvery *int64     `toml:"checkpoint_every"`
 	Moves           *fileMoves `toml:"moves"`
+	AdaptWeights    *bool      `toml:"adapt_weights"`
+	MinESS          *float64   `toml:"min_ess"`
 	StretchScale    *float64   `toml:"stretch_scale"`
 }
 
@@ -88,6 +90,8 @@ type fileMoves struct {
 	Stretch       *float64 `toml:"stretch"`
 	DiffEvolution *float64 `toml:"differential_evolution"`
 	Walk          *float64 `toml:"walk"`
+	DiffSlice     *float64 `toml:"differential_slice"`
+	GaussSlice    *float64 `toml:"gaussian_slice"`
 }
 
 // Load reads and checks the configuration file at path. Relative paths in it
@@ -278,7 +282,12 @@ func (d *fileConfig) fill(c *Config, ps *problems) {
 		Threads:         orInt(ps, "sampler.threads", s.Threads, 0),
 		CheckpointEvery: orInt(ps, "sampler.checkpoint_every", s.CheckpointEvery, DefaultCheckpointEvery),
 		StretchScale:    orFloat(s.StretchScale, DefaultStretchScale),
-		Moves:           Moves{Stretch: 1},
+		MinESS:          orFloat(s.MinESS, DefaultMinESS),
+		AdaptWeights:    DefaultAdaptWeights,
+		Moves:           DefaultMoves,
+	}
+	if s.AdaptWeights != nil {
+		c.Sampler.AdaptWeights = *s.AdaptWeights
 	}
 	c.Sampler.Burn = orInt(ps, "sampler.burn", s.Burn, c.Sampler.Steps/4)
 	c.Sampler.Walkers = orInt(ps, "sampler.walkers", s.Walkers, DefaultWalkers(c.Dim()))
@@ -295,6 +304,8 @@ func (d *fileConfig) fill(c *Config, ps *problems) {
 			Stretch:       orFloat(mv.Stretch, 0),
 			DiffEvolution: orFloat(mv.DiffEvolution, 0),
 			Walk:          orFloat(mv.Walk, 0),
+			DiffSlice:     orFloat(mv.DiffSlice, 0),
+			GaussSlice:    orFloat(mv.GaussSlice, 0),
 		}
 	}
 }

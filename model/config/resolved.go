@@ -68,13 +68,13 @@ func (c *Config) write(forHash bool) []byte {
 		w.str("name", a.Name, "")
 		w.num("ref_azimuth", a.RefAzimuth, "deg")
 		w.list("azimuth_range", a.AzimuthRange[:], "deg")
-		w.prior("radius", Param{a.Name + param.SuffixRref, a.Radius})
-		w.prior("pitch", Param{a.Name + param.SuffixPitch, a.Pitch})
+		w.prior("radius", Param{Name: a.Name + param.SuffixRref, Prior: a.Radius})
+		w.prior("pitch", Param{Name: a.Name + param.SuffixPitch, Prior: a.Pitch})
 		if a.Kinked() {
-			w.prior("pitch2", Param{a.Name + param.SuffixPitch2, a.Pitch2})
-			w.prior("kink", Param{a.Name + param.SuffixKink, a.Kink})
+			w.prior("pitch2", Param{Name: a.Name + param.SuffixPitch2, Prior: a.Pitch2})
+			w.prior("kink", Param{Name: a.Name + param.SuffixKink, Prior: a.Kink})
 		}
-		w.prior("width", Param{a.Name + param.SuffixWidth, a.Width})
+		w.prior("width", Param{Name: a.Name + param.SuffixWidth, Prior: a.Width})
 	}
 
 	m := c.Membership
@@ -108,8 +108,11 @@ func (c *Config) write(forHash bool) []byte {
 		w.integer("threads", int64(s.Threads), "0 = all cores")
 		w.integer("checkpoint_every", int64(s.CheckpointEvery), "steps")
 	}
-	w.line("moves", fmt.Sprintf("{ stretch = %s, differential_evolution = %s, walk = %s }",
-		formatFloat(s.Moves.Stretch), formatFloat(s.Moves.DiffEvolution), formatFloat(s.Moves.Walk)), "relative weights")
+	w.line("moves", fmt.Sprintf("{ stretch = %s, differential_evolution = %s, walk = %s, differential_slice = %s, gaussian_slice = %s }",
+		formatFloat(s.Moves.Stretch), formatFloat(s.Moves.DiffEvolution), formatFloat(s.Moves.Walk),
+		formatFloat(s.Moves.DiffSlice), formatFloat(s.Moves.GaussSlice)), "relative weights")
+	w.line("adapt_weights", strconv.FormatBool(s.AdaptWeights), "during burn-in")
+	w.num("min_ess", s.MinESS, "with steps = 0")
 	w.num("stretch_scale", s.StretchScale, "")
 	return []byte(w.b.String())
 }

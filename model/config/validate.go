@@ -352,13 +352,17 @@ func (c *Config) validateSampler(ps *problems) {
 	for _, w := range []struct {
 		key string
 		v   float64
-	}{{"stretch", m.Stretch}, {"differential_evolution", m.DiffEvolution}, {"walk", m.Walk}} {
+	}{{"stretch", m.Stretch}, {"differential_evolution", m.DiffEvolution}, {"walk", m.Walk},
+		{"differential_slice", m.DiffSlice}, {"gaussian_slice", m.GaussSlice}} {
 		if !finite(w.v) || w.v < 0 {
 			ps.addf("sampler.moves."+w.key, "weight %g: must be zero or positive", w.v)
 		}
 	}
-	if !(m.Stretch+m.DiffEvolution+m.Walk > 0) {
+	if !(m.Stretch+m.DiffEvolution+m.Walk+m.DiffSlice+m.GaussSlice > 0) {
 		ps.addf("sampler.moves", "every move has weight zero")
+	}
+	if !finite(s.MinESS) || s.MinESS < 0 {
+		ps.addf("sampler.min_ess", "%g: must be zero or positive", s.MinESS)
 	}
 	if !finite(s.StretchScale) || !(s.StretchScale > 1) {
 		ps.addf("sampler.stretch_scale", "%g: the stretch move needs a scale above 1", s.StretchScale)

@@ -56,12 +56,9 @@ func CurveFromConfig(c *config.Config) model.CurveSettings {
 // membership fractions.
 func PriorsFromConfig(c *config.Config) model.Priors {
 	names, priors := c.ParamNames(), c.Priors()
-	pr := model.Priors{Fractions: c.Fractions()}
+	pr := model.Priors{Fractions: c.Fractions(), Derived: append([]model.NamedPrior(nil), c.DerivedPriors...)}
 	for i, n := range names {
 		pr.Params = append(pr.Params, model.NamedPrior{Name: n, Prior: priors[i]})
-	}
-	for _, d := range c.DerivedPriors {
-		pr.Derived = append(pr.Derived, model.NamedPrior{Name: d.Name, Prior: d.Prior})
 	}
 	return pr
 }

@@ -9,7 +9,7 @@ import (
 
 // TestRotationBands checks the credible bands against quantiles worked out by hand: 101
 // draws of a flat linear curve with Θ0 = 200, 201, …, 300 km/s. Outside the core Θ(R) = Θ0
-// at every R; inside it Θ(R) = Θ(R_core) R/R_core (MODEL.md: solid-body core). With the
+// at every R; inside it Θ(R) = Θ(R_core) R/R_core (package model, Kinematics: solid-body core). With the
 // midpoint quantile definition of mcmc.Quantile (Hyndman & Fan 1996, type 5) the p-quantile
 // of the equally spaced values 200 … 300 is 200 + (101 p − 0.5) km/s.
 func TestRotationBands(t *testing.T) {

@@ -69,7 +69,7 @@ func TestResumeIsExact(t *testing.T) {
 	// Under a umask that would hide files from the group, as on some clusters, the run
 	// directory's files still come out 0644 and its folders 0755.
 	old := syscall.Umask(0o077)
-	_, err := Fit(ctx, load(t, path), Options{Out: filepath.Join(dir, "whole"), Threads: 2})
+	whole, err := Fit(ctx, load(t, path), Options{Out: filepath.Join(dir, "whole"), Threads: 2})
 	syscall.Umask(old)
 	if err != nil {
 		t.Fatal(err)
@@ -82,8 +82,20 @@ func TestResumeIsExact(t *testing.T) {
 	if _, err := Fit(ctx, load(t, path), Options{Out: part, Steps: 17, Threads: 1}); err == nil {
 		t.Error("a second fit into a finished run directory was not refused")
 	}
-	if _, err := Fit(ctx, load(t, path), Options{Out: part, Steps: 40, Resume: true, Threads: 2}); err != nil {
+	resumed, err := Fit(ctx, load(t, path), Options{Out: part, Steps: 40, Resume: true, Threads: 2})
+	if err != nil {
 		t.Fatal(err)
+	}
+	// The evaluation count goes through the checkpoint: the resumed summary reports the
+	// uninterrupted run's, at least one evaluation per walker and step, and the cost of
+	// an effective sample follows from it.
+	ws, rs := whole.Summary, resumed.Summary
+	if ws.Evaluations != rs.Evaluations || ws.Evaluations < 40*40 || ws.EvaluationsPerStep < 40 {
+		t.Errorf("evaluations %d (%.1f per step) uninterrupted, %d resumed; want equal and at least one per walker and step",
+			ws.Evaluations, ws.EvaluationsPerStep, rs.Evaluations)
+	}
+	if want := ws.SlowestESS / (ws.EvaluationsPerStep * float64(ws.Steps-ws.Burn)); !(ws.ESSPerEvaluation > 0) || math.Abs(ws.ESSPerEvaluation-want) > 1e-12*want {
+		t.Errorf("ESS per evaluation %v, want %v", ws.ESSPerEvaluation, want)
 	}
 	a, _ := os.ReadFile(filepath.Join(dir, "whole", ChainFile))
 	b, _ := os.ReadFile(filepath.Join(part, ChainFile))

@@ -125,7 +125,7 @@ type PilotResult struct {
 	Inner, Excluded []string
 }
 
-// Pilot lays out the quadratures and finds the MAP point (MODEL §5, step 3): panels are
+// Pilot lays out the quadratures and finds the MAP point (package model, Quadrature): panels are
 // built at the starting point; the MAP is found with them; the panels are rebuilt at the
 // start and the MAP, and the MAP refined; finally the panels are built at the start, the
 // MAP and ten draws around it with the expected posterior spreads (the configuration's
@@ -189,7 +189,7 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 				break
 			}
 			budget *= 2
-			j.logf("MAP search round %d: log posterior %.3f after %d evaluations, still rising (last gain %.2g); continuing with %d evaluations", round, lp, found.Evaluations, found.LastGain, budget)
+			j.logf("MAP search round %d: log posterior %.3f after %d evaluations, not settled (the last search gained %.2g); continuing with %d evaluations", round, lp, found.Evaluations, found.LastGain, budget)
 		}
 		if round == 1 {
 			inner, err := j.flagInner(x)
@@ -311,10 +311,13 @@ func (j *Job) laplace(x, prior []float64, threads int) []float64 {
 		for i := range z {
 			z[i] = x[i] + h[i]*y[i]
 		}
-		return j.Post.LogDensity(z)
+		return j.Post.LogDensityParallel(z, threads)
 	}
+	// The stencil is evaluated in order (fd's concurrent mode would sum it in the order
+	// the evaluations finish, and the spreads, hence the chain, would depend on timing);
+	// each evaluation shares its sources among the threads instead.
 	var Hy mat.SymDense
-	fd.Hessian(&Hy, scaled, make([]float64, n), &fd.Settings{Formula: fd.Central, Step: 1, Concurrent: threads != 1})
+	fd.Hessian(&Hy, scaled, make([]float64, n), &fd.Settings{Formula: fd.Central, Step: 1})
 	H := mat.NewSymDense(n, nil)
 	for a := range n {
 		for b := a; b < n; b++ {

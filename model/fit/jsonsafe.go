@@ -9,7 +9,8 @@ import (
 
 // jsonSafe returns v as plain maps, slices and values for encoding/json, with every NaN or
 // infinite float64 replaced by nil (JSON null), which encoding/json cannot write otherwise.
-// Struct fields follow their json tags; fields tagged "-" are left out.
+// Struct fields follow their json tags; fields tagged "-" are left out; the fields of an
+// embedded struct without a tag appear as the outer struct's own.
 func jsonSafe(v any) any { return safe(reflect.ValueOf(v)) }
 
 func safe(v reflect.Value) any {
@@ -47,6 +48,13 @@ func safe(v reflect.Value) any {
 		for i := range t.NumField() {
 			f := t.Field(i)
 			if !f.IsExported() {
+				continue
+			}
+			if f.Anonymous && f.Tag.Get("json") == "" && f.Type.Kind() == reflect.Struct {
+				// Fields of an embedded struct are promoted, as encoding/json does.
+				for k, x := range safe(v.Field(i)).(map[string]any) {
+					out[k] = x
+				}
 				continue
 			}
 			name := f.Name

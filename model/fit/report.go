@@ -10,6 +10,7 @@ import (
 	"text/tabwriter"
 
 	"github.com/mirabilis-astro/mirabilis/mcmc"
+	"github.com/mirabilis-astro/mirabilis/model"
 )
 
 // ReportQuantity summarises the posterior of one parameter or derived quantity over one
@@ -57,12 +58,12 @@ type ReportSource struct {
 	WSD       float64  `json:"W_sd"`
 	Flags     []string `json:"flags"`
 	// KinematicNear and KinematicFar are the nearest and farthest distances (kpc) at which
-	// the median model predicts the source's v_LSR (NaN when none, or without a velocity;
-	// equal when there is one).
+	// the median model predicts the source's v_LSR (NaN when none, as beyond the terminal
+	// velocity, or without a velocity; equal when there is one).
 	KinematicNear float64 `json:"kinematic_near"`
 	KinematicFar  float64 `json:"kinematic_far"`
-	// KinematicConflict says that no kinematic distance lies within 3σ of the measured
-	// parallax (compared as parallaxes, 1/d against ϖ ± σϖ).
+	// KinematicConflict says that no kinematic distance lies within 3σ of the distance the
+	// parallax gives (see kinematicAgrees).
 	KinematicConflict bool `json:"kinematic_conflict"`
 
 	res SourceResult
@@ -186,12 +187,10 @@ func NewReport(runs []*Run, burn int) (*Report, error) {
 				rs.KinematicNear, rs.KinematicFar = sol.Distances[0], sol.Distances[len(sol.Distances)-1]
 				rs.KinematicConflict = true
 				for _, d := range sol.Distances {
-					if math.Abs(1/d-src.Plx) <= 3*src.PlxErr {
+					if kinematicAgrees(median, src, d) {
 						rs.KinematicConflict = false
 					}
 				}
-			} else if err == nil {
-				rs.KinematicConflict = true
 			}
 			if rs.KinematicConflict {
 				rs.Flags = append(rs.Flags, "kinematic-conflict")
@@ -200,6 +199,26 @@ func NewReport(runs []*Run, burn int) (*Report, error) {
 		rep.Sources = append(rep.Sources, rs)
 	}
 	return rep, nil
+}
+
+// kinematicAgrees reports whether kinematic distance d (kpc) of src lies within 3σ of
+// the parallax's distance 1/ϖ under p, σ combining in quadrature the parallax's distance
+// error σϖ/ϖ² and the kinematic distance's, √(σ_v² + σ_vir²)/|dv_LSR/dd| (first-order
+// error propagation; common practice, no source). A parallax of less than 3σϖ agrees with
+// any distance beyond 1/(ϖ + 3σϖ).
+func kinematicAgrees(p *model.Params, src *model.Source, d float64) bool {
+	if src.Plx < 3*src.PlxErr {
+		return d >= 1/(src.Plx+3*src.PlxErr) || src.Plx+3*src.PlxErr <= 0
+	}
+	const h = 1e-3 // kpc
+	slope := (p.Motion.VLSR(&src.Sight, d+h) - p.Motion.VLSR(&src.Sight, max(d-h, 1e-6))) / (d + h - max(d-h, 1e-6))
+	sv := math.Hypot(src.VErr, p.SigmaVir)
+	sKin := math.Inf(1)
+	if slope != 0 {
+		sKin = sv / math.Abs(slope)
+	}
+	sPlx := src.PlxErr / (src.Plx * src.Plx)
+	return math.Abs(d-1/src.Plx) <= 3*math.Hypot(sKin, sPlx)
 }
 
 // quantitySeries returns every parameter's and derived quantity's trace, by name, indexed

@@ -8,6 +8,8 @@ import (
 	"testing"
 
 	"github.com/mirabilis-astro/mirabilis/mcmc"
+	"github.com/mirabilis-astro/mirabilis/model"
+	"github.com/mirabilis-astro/mirabilis/model/catalog"
 )
 
 // tinyRun fits a 20-source mock for 40 steps and opens the run directory.
@@ -119,5 +121,43 @@ func TestReportMergesRuns(t *testing.T) {
 	}
 	if lines := strings.Count(string(single.SourcesCSV()), "\n"); lines != len(single.Sources)+1 {
 		t.Errorf("sources table: %d lines for %d sources", lines, len(single.Sources))
+	}
+}
+
+func TestKinematicAgrees(t *testing.T) {
+	// A source moving exactly as the truth predicts at 5 kpc: its kinematic distance
+	// agrees with a parallax of 0.2 ± 0.01 mas, not with one of 0.4 ± 0.01 mas (5 kpc
+	// against 2.5 ± 0.06 kpc; the kinematic distance's own spread, from 3 km/s and
+	// σ_vir = 6 km/s, is a few hundred pc at l = 40°). The distance is found by the
+	// model's own kinematic-distance search.
+	path, m := setUp(t, 10, "")
+	cfg := load(t, path)
+	cat, err := catalog.ReadFile(cfg.Catalog)
+	if err != nil {
+		t.Fatal(err)
+	}
+	job, err := Prepare(cfg, cat)
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, truth := truthDraws(t, job, m.Truth, 1)
+	src := model.Source{Sight: model.NewSightline(40, 0), Plx: 0.2, PlxErr: 0.01, HasV: true, VLSR: true, VErr: 3}
+	src.V = truth.Motion.Predict(&src.Sight, 5).VLSR
+	sol, err := truth.Motion.KinematicDistances(&src.Sight, src.V, 30)
+	if err != nil || len(sol.Distances) == 0 {
+		t.Fatalf("kinematic distances %v, %v", sol.Distances, err)
+	}
+	near := false
+	for _, d := range sol.Distances {
+		near = near || kinematicAgrees(truth, &src, d)
+	}
+	if !near {
+		t.Errorf("parallax 0.2 mas: no kinematic distance of %v agrees with 5 kpc", sol.Distances)
+	}
+	src.Plx = 0.4
+	for _, d := range sol.Distances {
+		if kinematicAgrees(truth, &src, d) {
+			t.Errorf("parallax 0.4 mas (2.5 kpc) agrees with kinematic distance %.2f kpc", d)
+		}
 	}
 }

@@ -159,7 +159,7 @@ func now() string { return time.Now().UTC().Format(time.RFC3339) }
 // name and renamed); a finished run is not overwritten without Force; Resume continues a
 // stopped run exactly, and is refused if the configuration or the catalog changed.
 func Fit(ctx context.Context, cfg *config.Config, opts Options) (*Outcome, error) {
-	refineUntil := burnLimit(cfg.Sampler)
+	refineUntil := TuneSteps(cfg.Sampler)
 	if err := opts.Apply(cfg); err != nil {
 		return nil, err
 	}
@@ -329,25 +329,15 @@ func updateManifest(dir string, f func(m *Manifest)) error {
 	return writeJSON(filepath.Join(dir, ManifestFile), m)
 }
 
-// burnLimit is the last step at which the quadratures may still be refined.
-func burnLimit(s config.Sampler) int {
-	switch {
-	case s.Burn > 0:
-		return s.Burn
-	case s.Steps > 0:
-		return s.Steps / 4
-	default:
-		return s.MaxSteps / 10
-	}
-}
-
 func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, opts Options) (*Outcome, error) {
 	cfg := job.Config
 	ckPath := filepath.Join(dir, CheckpointFile)
 	out := &Outcome{Dir: dir, Job: job}
 	var pilot *PilotResult
+	tune := limit
 	if resuming {
 		if ck, err := mcmc.LoadCheckpoint(ckPath); err == nil {
+			tune = ck.Tuning.Steps // fixed when the run began, whatever --steps says now
 			if err := job.Like.UnmarshalLayouts(ck.Extra); err != nil {
 				return nil, fmt.Errorf("%s: %w", ckPath, err)
 			}
@@ -392,6 +382,8 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 		Seed:            cfg.Sampler.Seed,
 		Threads:         cfg.Sampler.Threads,
 		Moves:           moves(cfg.Sampler),
+		TuneSteps:       tune,
+		AdaptWeights:    cfg.Sampler.AdaptWeights,
 		Steps:           cfg.Sampler.Steps,
 		ChainPath:       filepath.Join(dir, ChainFile),
 		CheckpointPath:  ckPath,
@@ -407,6 +399,9 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 	if cfg.Sampler.Steps == 0 {
 		set.AutoStop = true
 		set.Steps = cfg.Sampler.MaxSteps
+		// The effective sample size decides; 20 τ is enough for the
+		// estimate of τ itself to settle (common practice, no source).
+		set.MinESS, set.TauFactor = cfg.Sampler.MinESS, 20
 	}
 	set.AfterCheckpoint = func(step int) error {
 		return updateManifest(dir, func(m *Manifest) {
@@ -498,5 +493,26 @@ func moves(s config.Sampler) []mcmc.WeightedMove {
 	if s.Moves.Walk > 0 {
 		out = append(out, mcmc.WeightedMove{Move: mcmc.WalkMove{Subset: 0}, Weight: s.Moves.Walk})
 	}
+	if s.Moves.DiffSlice > 0 {
+		out = append(out, mcmc.WeightedMove{Move: mcmc.DifferentialSliceMove{}, Weight: s.Moves.DiffSlice})
+	}
+	if s.Moves.GaussSlice > 0 {
+		out = append(out, mcmc.WeightedMove{Move: mcmc.GaussianSliceMove{}, Weight: s.Moves.GaussSlice})
+	}
 	return out
+}
+
+// TuneSteps returns the burn-in during which the sampler tunes its slice widths and adapts
+// its move weights, and the quadratures may still be refined: the configuration's burn,
+// or with none a quarter of the steps, or max_steps/10 for a run that stops on its own.
+// A run takes it from its configuration before any --steps (a resumed run keeps its
+// checkpoint's), and summaries leave at least these steps out.
+func TuneSteps(s config.Sampler) int {
+	switch {
+	case s.Burn > 0:
+		return s.Burn
+	case s.Steps > 0:
+		return s.Steps / 4
+	}
+	return s.MaxSteps / 10
 }

@@ -98,11 +98,12 @@ type Summary struct {
 	TauOK      bool    `json:"tau_reliable"`
 	// MAPConverged says whether the pilot stage's search for the maximum a posteriori
 	// point converged; when it did not, the MAP column is only the best point found.
-	MAPConverged bool       `json:"map_converged"`
-	Stuck        []int      `json:"stuck_walkers"`
-	Params       []Quantity `json:"parameters"`
-	Derived      []Quantity `json:"derived"`
-	Components   []string   `json:"components"`
+	MAPConverged bool  `json:"map_converged"`
+	Stuck        []int `json:"stuck_walkers"`
+	Sampling
+	Params     []Quantity `json:"parameters"`
+	Derived    []Quantity `json:"derived"`
+	Components []string   `json:"components"`
 	// DerivedPriors lists the priors put on derived quantities ("Omega_sun ~ normal(…)").
 	// Each multiplies the priors of the parameters it depends on, so that their effective
 	// prior is not the one stated for each.
@@ -117,6 +118,67 @@ type Summary struct {
 	Draws []map[string]float64 `json:"-"`
 
 	samples []byte // the samples table, CSV
+}
+
+// Sampling is the cost of a run's effective samples and the moves that made them.
+// Evaluations after burn-in are the sampler's count after its tuning steps, scaled to
+// the summarised steps; the sampling time after burn-in is the run's sampling time
+// in proportion to its evaluations.
+type Sampling struct {
+	// Evaluations counts every log-density evaluation of the sampler (start and steps,
+	// not the pilot stage); EvaluationsPerStep is their mean per step after burn-in,
+	// over all walkers.
+	Evaluations        int64   `json:"evaluations"`
+	EvaluationsPerStep float64 `json:"evaluations_per_step"`
+	// MaxTauEvaluations is MaxTau in evaluations: MaxTau × EvaluationsPerStep.
+	MaxTauEvaluations float64 `json:"max_tau_evaluations"`
+	// SlowestESS is the smallest effective sample size of the parameters;
+	// ESSPerEvaluation and ESSPerSecond divide it by the evaluations and by the
+	// sampling time (s) after burn-in.
+	SlowestESS       float64 `json:"slowest_ess"`
+	ESSPerEvaluation float64 `json:"ess_per_evaluation"`
+	ESSPerSecond     float64 `json:"ess_per_second"`
+	// Moves are the sampler's moves with their weights and slice widths, as frozen
+	// after burn-in.
+	Moves []MoveUse `json:"moves"`
+}
+
+// MoveUse is one move of a run.
+type MoveUse struct {
+	// Move describes the move and its settings.
+	Move string `json:"move"`
+	// Weight is its probability of being chosen after burn-in.
+	Weight float64 `json:"weight"`
+	// Width is the slice width μ (in units of the direction) after burn-in; 0 for moves
+	// that are not slice moves.
+	Width float64 `json:"width"`
+}
+
+// fill fills in the cost of the effective samples, for burn steps left out of a
+// chain of steps.
+func (s *Sampling) fill(res *mcmc.Result, steps, burn int, maxTau float64, params []Quantity) {
+	s.SlowestESS = math.NaN()
+	for _, q := range params {
+		if !math.IsNaN(q.ESS) && !(q.ESS >= s.SlowestESS) { // NaN for a constant parameter
+			s.SlowestESS = q.ESS
+		}
+	}
+	s.EvaluationsPerStep, s.MaxTauEvaluations, s.ESSPerEvaluation, s.ESSPerSecond = math.NaN(), math.NaN(), math.NaN(), math.NaN()
+	if res == nil {
+		return
+	}
+	s.Evaluations = res.Evaluations
+	for k, m := range res.Moves {
+		s.Moves = append(s.Moves, MoveUse{Move: m, Weight: res.Weights[k], Width: res.Widths[k]})
+	}
+	if steps <= res.TuneSteps || res.Evaluations == 0 {
+		return
+	}
+	s.EvaluationsPerStep = float64(res.Evaluations-res.TunedEvaluations) / float64(steps-res.TuneSteps)
+	s.MaxTauEvaluations = maxTau * s.EvaluationsPerStep
+	after := s.EvaluationsPerStep * float64(steps-burn)
+	s.ESSPerEvaluation = s.SlowestESS / after
+	s.ESSPerSecond = s.SlowestESS / (res.Seconds * after / float64(res.Evaluations))
 }
 
 // maxSampleRows bounds the rows of the samples table; longer chains are thinned evenly.
@@ -162,7 +224,11 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 	if burn == 0 {
 		burn = rows / 4
 	}
-	burn = min(burn, rows-2)
+	tune := TuneSteps(cfg.Sampler)
+	if res != nil {
+		tune = res.TuneSteps
+	}
+	burn = min(max(burn, tune), rows-2) // the tuning steps are never summarised
 	W := chain.Walkers()
 	s := &Summary{Steps: chain.Step(rows - 1), Walkers: W, Burn: burn, Components: components(job.Spec)}
 	if res != nil {
@@ -257,6 +323,7 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 			s.Derived = append(s.Derived, qt)
 		}
 	}
+	s.Sampling.fill(res, s.Steps, burn, s.MaxTau, s.Params)
 	// Posterior draws for the per-source results and the figures: spread evenly over the
 	// kept rows after burn-in, cycling through the walkers.
 	nd := min(sourceDraws, n*W)
@@ -440,6 +507,23 @@ func (s *Summary) Text() string {
 		fmt.Fprint(&b, "; τ estimates not yet reliable: run longer")
 	}
 	fmt.Fprintln(&b)
+	if s.Evaluations > 0 {
+		fmt.Fprintf(&b, "Likelihood evaluations %d, %s per step after burn-in; longest τ = %s evaluations\n",
+			s.Evaluations, fixed1(s.EvaluationsPerStep), fixed0(s.MaxTauEvaluations))
+		fmt.Fprintf(&b, "Slowest parameter: ESS %s, %s per 1000 evaluations, %s per second\n",
+			fixed0(s.SlowestESS), num(1000*s.ESSPerEvaluation), num(s.ESSPerSecond))
+		fmt.Fprint(&b, "Moves after burn-in:")
+		for i, m := range s.Moves {
+			if i > 0 {
+				fmt.Fprint(&b, ";")
+			}
+			fmt.Fprintf(&b, " %s weight %.3f", m.Move, m.Weight)
+			if m.Width > 0 {
+				fmt.Fprintf(&b, ", width %.3g", m.Width)
+			}
+		}
+		fmt.Fprintln(&b)
+	}
 	if len(s.Stuck) > 0 {
 		fmt.Fprintf(&b, "Walkers that look stuck: %v\n", s.Stuck)
 	}

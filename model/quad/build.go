@@ -549,8 +549,8 @@ func (b *builder) prune(a *account, probesOnly bool) error {
 // Kronrod values it replaces at every pilot, within what is left of the
 // budget MergeShare × Tol. The merged panel is compared with the resolved
 // panels it replaces, never with its own |K15 − G7|, which for a wide panel
-// over a smooth peak overstates its error by orders of magnitude (MODEL.md
-// §5, step 3): Layout.Estimate of a merged layout therefore may exceed Tol
+// over a smooth peak overstates its error by orders of magnitude (package model,
+// Quadrature): Layout.Estimate of a merged layout therefore may exceed Tol
 // at the pilots while its integral there is within MergeShare × Tol of the
 // refined one.
 //

@@ -303,7 +303,7 @@ func TestErrorBoundLong(t *testing.T) {
 
 // TestMergeBudget builds random layouts with and without merging: merging
 // moves no pilot's log integral by more than MergeShare × Tol (the budget
-// of MODEL.md §5: Tol/10 by default, 1e-5; and 5e-5 with MergeShare 0.5),
+// of package model, Quadrature: Tol/10 by default, 1e-5; and 5e-5 with MergeShare 0.5),
 // nor by more than Stats.Merged says, and it removes nodes.
 func TestMergeBudget(t *testing.T) {
 	r := rand.New(rand.NewPCG(3, 5))

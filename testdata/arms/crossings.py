@@ -4,8 +4,8 @@
 Writes crossings.json next to this script; arms/crossing_test.go reads it.
 
 Independent of the Go code: the centre line is evaluated from an antiderivative of tan(psi)
-written afresh here (MODEL.md section 4: ln R(beta) = ln R_ref - integral of tan psi from
-beta_ref to beta), the grid is 40001 points per line of sight, and every root is refined with
+written afresh here (package model, section Arms: ln R(beta) = ln R_ref - integral of
+tan psi from beta_ref to beta), the grid is 40001 points per line of sight, and every root is refined with
 scipy.optimize.brentq. Lengths kpc, angles radians (degrees only to state the cases).
 
 Run: /usr/bin/python3 testdata/arms/crossings.py

@@ -1,5 +1,5 @@
 #!/usr/bin/python3
-"""Reference per-source likelihoods of the mirabilis model (MODEL.md §2-5).
+"""Reference per-source likelihoods of the mirabilis model (as stated in package model).
 
 What this script does
 ---------------------
@@ -17,7 +17,7 @@ What this script does
    eleven pilot sets (pilot_00 is the truth, pilot_01..10 are draws with the
    pilot spreads, seed PILOT_SEED) and ten test sets (seed TEST_SEED).
 5. Reads mock.csv back and computes, for every source and every set, the log
-   of the distance-marginalised likelihood L_i of MODEL.md §5:
+   of the distance-marginalised likelihood L_i of package model, Likelihood:
        L_i = sum_m f_m int N(plx; 1/d, s_plx) (d cos b)^2 rho_m(R, beta) K_i(d) du,
    u = ln d over [ln d_min, ln d_max], in two independent ways:
      (a) scipy.integrate.quad (QAGP) over the whole range, epsrel 1e-10,
@@ -60,7 +60,7 @@ HERE = os.path.dirname(os.path.abspath(__file__))
 # Constants and settings
 # ---------------------------------------------------------------------------
 
-# 1 au per Julian year in km/s per (kpc mas/yr), IAU 2012 au (MODEL.md §2).
+# 1 au per Julian year in km/s per (kpc mas/yr), IAU 2012 au (package model, Frames).
 K_PM = 4.740470446
 
 # Hipparcos definition of the Galactic frame (ESA 1997, vol. 1, §1.5.3).
@@ -974,7 +974,7 @@ def check_scalar_vs_vector(srcs, params):
 
 
 def check_arm_normalisation(params):
-    """Each arm density integrates to ~1 over the plane (MODEL.md §4)."""
+    """Each arm density integrates to ~1 over the plane (package model, Arms)."""
     R = np.linspace(5e-3, 40.0, 4000)
     beta = np.linspace(-math.pi, math.pi, 3601)[:-1]
     dR = R[1] - R[0]

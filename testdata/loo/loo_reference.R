@@ -6,9 +6,12 @@
 #
 # Run from this folder:  Rscript loo_reference.R
 # Reads  fit_a.csv, fit_b.csv (pointwise log-likelihood matrices written by
-#                             `mirabilis compare --pointwise` for two small
-#                             fits of one catalog under two models; one row
-#                             per draw, one named column per source)
+#                             `mirabilis compare straight kinked --pointwise`
+#                             for two short fits of a kinked-arm mock drawn
+#                             as in model/fit's TestCompareFindsKink (150 sources,
+#                             32 walkers, 500 steps): fit_a with a straight
+#                             arm, fit_b with the kinked one; one row per
+#                             draw, one named column per source)
 # Writes synthetic_a.csv, synthetic_b.csv (synthetic matrices, same layout),
 #        gpd_samples.csv     (case,value: heavy-tailed exceedances, sorted),
 #        gpd_reference.csv   (case,n,k,sigma: loo's generalised Pareto fit),
