@@ -171,6 +171,14 @@ type builder struct {
 	evals int
 	u, w  [PanelNodes]float64
 	v     [PanelNodes]float64
+	// fences are edges that merging may not cross (Refine's old panel edges).
+	fences map[float64]bool
+}
+
+// joined reports whether panels i and i+1 touch and may be merged.
+func (b *builder) joined(i int) bool {
+	x := b.spans[i].hi
+	return x == b.spans[i+1].lo && !b.fences[x]
 }
 
 func newBuilder(set Settings, pilots []func(float64) float64) (*builder, error) {
@@ -563,7 +571,7 @@ func (b *builder) merge(a *account) error {
 	// Maximal runs, from the right so that indices to the left stay valid.
 	end := len(b.spans)
 	for i := len(b.spans) - 1; i >= 0; i-- {
-		if i == 0 || b.spans[i-1].hi != b.spans[i].lo {
+		if i == 0 || !b.joined(i-1) {
 			ok, err := m.partition(i, end)
 			if err != nil {
 				return err
@@ -579,7 +587,7 @@ func (b *builder) merge(a *account) error {
 	for {
 		mergedAny := false
 		for j := 0; j+1 < len(b.spans); j++ {
-			if b.spans[j].hi != b.spans[j+1].lo {
+			if !b.joined(j) {
 				continue
 			}
 			ok, err := m.try(j, j+2)
@@ -930,7 +938,10 @@ func (b *builder) finish(lo, hi float64, converged bool, a *account) (*Layout, S
 // every other panel is kept as it is. Gaps in l are looked into, in
 // stretches as wide as Build's first panels, also cut at the breakpoints, and
 // a stretch where the log-integrand comes within s.Depth of its maximum at
-// some pilot becomes a panel and is refined too. Nothing is merged; the
+// some pilot becomes a panel and is refined too. The new panels are then
+// merged as in Build, checked at the new pilots, but never across an edge of
+// l's panels, so that each old panel stays a union of new ones (and, where
+// the old pilots' integrands are smooth on it, as accurate for them). The
 // bisections are capped by s.MaxSplits, with the fallback of Build. l is not
 // changed. Stats.Error includes the mass the probes found in the gaps that
 // remain.
@@ -967,6 +978,10 @@ func Refine(l *Layout, breaks []float64, pilots []func(u float64) float64, s *Se
 			return nil, Stats{}, err
 		}
 	}
+	b.fences = map[float64]bool{}
+	for _, p := range l.panels {
+		b.fences[p.Lo], b.fences[p.Hi] = true, true
+	}
 	converged, fallback, err := b.refineOrFallBack()
 	if err != nil {
 		return nil, Stats{}, err
@@ -975,6 +990,11 @@ func Refine(l *Layout, breaks []float64, pilots []func(u float64) float64, s *Se
 	a := b.newAccount()
 	if err := b.prune(a, true); err != nil {
 		return nil, Stats{}, err
+	}
+	if converged && !set.NoMerge {
+		if err := b.merge(a); err != nil {
+			return nil, Stats{}, err
+		}
 	}
 	r, st, err := b.finish(l.lo, l.hi, converged, a)
 	st.Fallback = fallback

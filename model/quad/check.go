@@ -20,6 +20,7 @@ func Check(l *Layout, breaks []float64, f func(u float64) float64, s *Settings) 
 		return 0, nil, err
 	}
 	set.Tol *= checkShare
+	set.NoMerge = true
 	r, _, err := Refine(l, breaks, []func(float64) float64{f}, &set)
 	if err != nil {
 		return 0, nil, err
