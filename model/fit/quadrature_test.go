@@ -19,7 +19,7 @@ import (
 const panelsDir = "../../testdata/panels"
 
 // farsidePilots prepares the fit of a far-side mock and returns it with the pilot sets of
-// MODEL.md §5 step 3, the MAP replaced by the truth: the starting point, the truth, and ten
+// package model's Quadrature section, the MAP replaced by the truth: the starting point, the truth, and ten
 // normal draws around the truth with the configured spreads (seeded).
 func farsidePilots(t *testing.T, name string) (*Job, []*model.Params) {
 	t.Helper()
@@ -70,7 +70,7 @@ func farsidePilots(t *testing.T, name string) (*Job, []*model.Params) {
 // quarter with parallax significance below 2, dozens on the far side of the centre within
 // 25° of l = 0), the quadratures laid out at twelve pilot sets need at most a median of 50
 // nodes per source and 300 for any source, and every source converges. An independent
-// implementation of MODEL.md §5 reached a median of 45–75 (15–240) on such mocks; before
+// implementation of the same layout reached a median of 45–75 (15–240) on such mocks; before
 // the pilots' breakpoints were thinned and merging judged against the resolved panels
 // only, these mocks took a median of 75.
 func TestNodeCountsOnFarSideMocks(t *testing.T) {
