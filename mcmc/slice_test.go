@@ -308,3 +308,26 @@ func TestEveryMoveDeterministicAndResumable(t *testing.T) {
 		})
 	}
 }
+
+// With MinESS the automatic rule also waits for the effective sample size
+// after the tuning steps: the run stops later than without it, on a check
+// step, where W·(step − TuneSteps)/τ (τ from the last check, which the
+// final estimate on the same chain matches closely) has reached MinESS.
+func TestAutoStopWaitsForESS(t *testing.T) {
+	g := newRotatedGaussian(2, 1, 5)
+	p := Problem{g.LogDensity, 2}
+	st := Start{Center: []float64{0, 0}, Scale: []float64{1, 1}}
+	set := func(minESS float64) *Settings {
+		return &Settings{Seed: 9, Walkers: 16, AutoStop: true, TauEvery: 100, Steps: 200000, TuneSteps: 100, MinESS: minESS}
+	}
+	plain := mustRun(t, p, st, set(0))
+	res := mustRun(t, p, st, set(6000))
+	if plain.Status != Converged || res.Status != Converged || res.Step%100 != 0 {
+		t.Fatalf("status %v at step %d and %v at step %d, want both converged on check steps", plain.Status, plain.Step, res.Status, res.Step)
+	}
+	ess := float64(16*(res.Step-100)) / maxOf(res.Tau)
+	t.Logf("without MinESS: step %d; with MinESS 6000: step %d, ESS %.0f", plain.Step, res.Step, ess)
+	if res.Step <= plain.Step || ess < 0.9*6000 {
+		t.Errorf("with MinESS = 6000 the run stopped at step %d (without: %d) with ESS %.0f", res.Step, plain.Step, ess)
+	}
+}
