@@ -190,7 +190,7 @@ type Sampler struct {
 	// AdaptWeights lets the move weights adapt during burn-in (each move's
 	// share of the likelihood evaluations in proportion to its squared jump
 	// per evaluation), starting from Moves; they are frozen afterwards.
-	// False keeps the weights of Moves. Default true.
+	// False keeps the weights of Moves. Default false.
 	AdaptWeights bool
 	// MinESS is the effective sample size every parameter must reach after
 	// burn-in before a run with Steps = 0 stops. Default 1000.
@@ -219,8 +219,8 @@ type Moves struct {
 
 // DefaultMoves are the move weights of a configuration that gives none,
 // chosen from measurements of effective samples per likelihood evaluation on
-// the demo galaxy and on mock catalogs (see HelpText).
-var DefaultMoves = Moves{DiffEvolution: 1, DiffSlice: 1}
+// a correlated Gaussian, a banana density and the demo galaxy (see HelpText).
+var DefaultMoves = Moves{Stretch: 0.2, DiffEvolution: 0.8}
 
 // DefaultPrior returns the prior a global parameter gets when the file gives
 // none. The defaults are broad: they bound what is physically plausible for
@@ -281,7 +281,7 @@ const (
 	DefaultCheckpointEvery = 200
 	DefaultStretchScale    = 2.0
 	DefaultMinESS          = 1000
-	DefaultAdaptWeights    = true
+	DefaultAdaptWeights    = false
 	MinDefaultWalkers      = 32
 )
 

@@ -160,7 +160,7 @@ func TestDefaults(t *testing.T) {
 	}
 	s := c.Sampler
 	if s != (Sampler{Walkers: 32, Steps: 0, MaxSteps: 20000, Burn: 0, Seed: 1, Threads: 0, CheckpointEvery: 200,
-		Moves: Moves{DiffEvolution: 1, DiffSlice: 1}, AdaptWeights: true, MinESS: 1000, StretchScale: 2}) {
+		Moves: Moves{Stretch: 0.2, DiffEvolution: 0.8}, AdaptWeights: false, MinESS: 1000, StretchScale: 2}) {
 		t.Errorf("sampler defaults %+v", s)
 	}
 	want := map[string]string{
