@@ -515,7 +515,7 @@ func (c *Comparison) Text() string {
 	for _, m := range c.Models {
 		fmt.Fprintf(&b, "  %-*s  %d posterior draws", w, m.Label, m.Draws)
 		if m.Draws < m.Requested {
-			fmt.Fprintf(&b, " (of %d asked for: the chain holds no more one autocorrelation time apart)", m.Requested)
+			fmt.Fprintf(&b, " (of %d asked for: the chain holds no more draws one autocorrelation time apart)", m.Requested)
 		}
 		fmt.Fprintf(&b, "; one walker's draws at least %d kept rows apart (τ = %.1f)\n", m.Spacing, m.Tau)
 	}
