@@ -59,19 +59,6 @@ func buildProgram(t *testing.T, dir string) string {
 	return bin
 }
 
-// slurmSurvey is a small survey of the two-armed test galaxy.
-const slurmSurvey = `
-[survey]
-sources = 40
-seed = 17
-declination_range = [-35, 90]
-max_distance = 9
-min_distance = 0.5
-fractions = { field = 0.15 }
-labelled = 0.3
-missing_share = 0.1
-`
-
 // slurmSampler makes each test fit long enough to be caught running: a few thousand
 // steps of the small two-armed galaxy, checkpointed often.
 const slurmSampler = `
@@ -95,7 +82,7 @@ func TestSlurmArray(t *testing.T) {
 	}
 	bin := buildProgram(t, dir)
 
-	cfgPath, _ := mocktest.Catalog(t, dir, slurmSurvey, slurmSampler, fit.SpecFromConfig)
+	cfgPath, _ := mocktest.Catalog(t, dir, figTestSurvey, slurmSampler, fit.SpecFromConfig)
 
 	array := filepath.Join(dir, "array")
 	runBin(t, bin, "batch", cfgPath, "--chains", "3", "--cpus", "1", "--time", "00:30:00", "--warning", "2m", "--out", array)
@@ -227,7 +214,7 @@ func TestSlurmCalibration(t *testing.T) {
 		t.Fatal(err)
 	}
 	bin := buildProgram(t, dir)
-	cfgPath, _ := mocktest.Catalog(t, dir, slurmSurvey, "\n[sampler]\nwalkers = 40\nsteps = 60\nburn = 20\nseed = 3\n", fit.SpecFromConfig)
+	cfgPath, _ := mocktest.Catalog(t, dir, figTestSurvey, "\n[sampler]\nwalkers = 40\nsteps = 60\nburn = 20\nseed = 3\n", fit.SpecFromConfig)
 	survey := filepath.Join(dir, "survey.toml")
 	writeFile(t, survey, []byte("[survey]\nsources = 25\nmax_distance = 10\nmin_distance = 0.5\ndeclination_range = [-90, 90]\n"))
 
