@@ -44,8 +44,9 @@ type MAPResult struct {
 	LogDensity float64
 	// Evaluations is the number of log-density evaluations used.
 	Evaluations int
-	// Converged is true when a restart from the best point found gained
-	// less than Settle: the value has stopped improving. It is false when
+	// Converged is true when a search from the best point found (a restart,
+	// or the first search when it starts there) gained less than Settle: the
+	// value has stopped improving. It is false when
 	// the budget or the restarts ran out first.
 	Converged bool
 	// Rounds is the number of searches run (the first and its restarts), and
@@ -178,7 +179,10 @@ func FindMAP(logDensity func(x []float64) float64, x0 []float64, s *MAPSettings)
 			res.LogDensity = -r.F
 		}
 		res.Rounds, res.LastGain = round+1, math.Max(improved, 0)
-		res.Converged = round > 0 && improved <= settle
+		// A search started afresh, with a new simplex, from a point it cannot improve
+		// on by Settle has settled, whether that point came from an earlier round or
+		// from the caller (who may be continuing a search that ran out of budget).
+		res.Converged = improved <= settle
 		if res.Converged {
 			break
 		}

@@ -59,4 +59,13 @@ func TestFindMAPReportsConvergence(t *testing.T) {
 	if math.Abs(r.LogDensity) > 1e-3 {
 		t.Errorf("maximum %.3g, want 0 within 1e-3 (%d rounds, %d evaluations)", r.LogDensity, r.Rounds, r.Evaluations)
 	}
+	// A search continued from a point it cannot improve on (here the maximum itself) has
+	// settled even when its budget allows no restart.
+	r, err = FindMAP(f, make([]float64, n), &MAPSettings{MaxEvaluations: 3000, Restarts: -1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !r.Converged || r.Rounds != 1 {
+		t.Errorf("started at the maximum: converged %v after %d rounds (gain %.2g), want converged after 1", r.Converged, r.Rounds, r.LastGain)
+	}
 }
