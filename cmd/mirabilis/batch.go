@@ -21,7 +21,9 @@ submit with sbatch. Nothing is submitted.
                             (s: the configuration's seed); merge them afterwards with
                             "mirabilis report DIR/chain-*"
   --variants VARIANTS.toml  one run per variant, each changing some settings of
-                            CONFIG.toml (see below); compare them side by side
+                            CONFIG.toml (see below); set them side by side
+                            with "mirabilis report --side-by-side DIR/variant-*"
+                            and rank them with "mirabilis compare"
   --mocks N --survey SURVEY.toml
                             a calibration set: task i draws true parameters from
                             CONFIG.toml's priors (seed s+i), simulates a mock

@@ -8,7 +8,7 @@ import (
 
 var reportCommand = &command{
 	Name:  "report",
-	Usage: "RUN_DIR... [--burn N] [--format text|json|csv] [--coverage [--figure FILE]]",
+	Usage: "RUN_DIR... [--burn N] [--format text|json|csv] [--side-by-side | --coverage [--figure FILE]]",
 	Short: "summarise one run, or merge several runs of one model",
 	Long: `Report summarises the posterior of a run directory, or of several runs of the
 same configuration and catalog merged (their walkers side by side; runs may differ
@@ -35,6 +35,11 @@ and derived (name → median, p16, p84, p2.5, p97.5, mean, sd, tau, ess_bulk,
 ess_tail, rhat, rhat_within), sources, warnings and runs; --format csv writes the
 per-source table.
 
+--side-by-side summarises each run on its own and sets them side by side, one
+column per run: for runs of different models, such as the variants of a batch
+(mirabilis batch --variants), which cannot be merged. "mirabilis compare" then says
+which model the catalog prefers.
+
 --coverage reads the runs of a calibration set (mirabilis batch --mocks), each a
 fit of a mock catalog with its true parameters in truth.json beside it, and prints
 for every sampled parameter the share of mocks whose truth lies inside the 68% and
@@ -46,6 +51,7 @@ or PDF by the extension).`,
 		var o reportOptions
 		fs.IntVar(&o.burn, "burn", 0, "leave out the first `N` kept rows of each chain (0: the configuration's burn-in)")
 		fs.StringVar(&o.format, "format", "text", "output `FORMAT`: text, json or csv")
+		fs.BoolVar(&o.sideBySide, "side-by-side", false, "summarise each run on its own, one column per run (runs of different models)")
 		fs.BoolVar(&o.coverage, "coverage", false, "calibration of a set of mock fits: interval coverage and rank statistics")
 		fs.StringVar(&o.figure, "figure", "", "with --coverage, draw the rank histograms into `FILE`")
 		return func(env *runEnv, args []string) error { return runReport(env, &o, args) }
@@ -53,10 +59,11 @@ or PDF by the extension).`,
 }
 
 type reportOptions struct {
-	burn     int
-	format   string
-	coverage bool
-	figure   string
+	burn       int
+	format     string
+	coverage   bool
+	sideBySide bool
+	figure     string
 }
 
 func runReport(env *runEnv, o *reportOptions, args []string) error {
@@ -69,8 +76,14 @@ func runReport(env *runEnv, o *reportOptions, args []string) error {
 	if o.burn < 0 {
 		return usageErrorf("--burn %d: want zero or more rows", o.burn)
 	}
+	if o.coverage && o.sideBySide {
+		return usageErrorf("--coverage and --side-by-side exclude each other")
+	}
 	if o.coverage {
 		return runCoverage(env, o, args)
+	}
+	if o.sideBySide {
+		return runSideBySide(env, o, args)
 	}
 	if o.figure != "" {
 		return usageErrorf("--figure goes with --coverage")

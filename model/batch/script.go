@@ -228,7 +228,7 @@ func reportArgs(p *Plan) string {
 		return "--coverage " + quote(p.Dir) + "/mock-*/run"
 	}
 	if p.Kind == Variants {
-		return quote(p.Dir) + "/variant-*   (each on its own: variants are different models)"
+		return "--side-by-side " + quote(p.Dir) + "/variant-*   (then: mirabilis compare)"
 	}
 	return quote(p.Dir) + "/chain-*"
 }
