@@ -1,7 +1,6 @@
 package main
 
 import (
-	"context"
 	"encoding/json"
 	"os"
 	"path/filepath"
@@ -9,7 +8,6 @@ import (
 	"testing"
 
 	"github.com/mirabilis-astro/mirabilis/internal/mocktest"
-	"github.com/mirabilis-astro/mirabilis/model/config"
 	"github.com/mirabilis-astro/mirabilis/model/fit"
 )
 
@@ -24,25 +22,14 @@ func TestCompareCommand(t *testing.T) {
 	}
 	dir := t.TempDir()
 	cfgPath, _ := mocktest.Catalog(t, dir, figTestSurvey, figTestSampler, fit.SpecFromConfig)
-	body, err := os.ReadFile(cfgPath)
-	if err != nil {
-		t.Fatal(err)
-	}
-	variant := filepath.Join(dir, "variant.toml")
-	os.WriteFile(variant, []byte(strings.Replace(string(body), `sigma_vir = "uniform(0.5, 20)"`, `sigma_vir = "fixed(12)"`, 1)), 0o644)
+	variant := variantOf(t, cfgPath, "variant.toml", `sigma_vir = "uniform(0.5, 20)"`, `sigma_vir = "fixed(12)"`, "")
 	var runs []string
 	for i, c := range []struct {
 		path string
 		seed uint64
 	}{{cfgPath, 5}, {cfgPath, 6}, {variant, 5}} {
-		cfg, err := config.Load(c.path)
-		if err != nil {
-			t.Fatal(err)
-		}
 		out := filepath.Join(dir, []string{"a1", "a2", "b"}[i])
-		if _, err := fit.Fit(context.Background(), cfg, fit.Options{Out: out, Seed: &c.seed, Threads: 2}); err != nil {
-			t.Fatal(err)
-		}
+		shortFit(t, c.path, fit.Options{Out: out, Seed: &c.seed, Threads: 2})
 		runs = append(runs, out)
 	}
 	if code, _, errs := runCLI(t, "compare", runs[0], runs[1]); code != 1 || !strings.Contains(errs, "same model") {

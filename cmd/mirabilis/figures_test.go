@@ -2,7 +2,6 @@ package main
 
 import (
 	"bytes"
-	"context"
 	"image"
 	"image/color"
 	"image/png"
@@ -14,7 +13,6 @@ import (
 	"testing"
 
 	"github.com/mirabilis-astro/mirabilis/internal/mocktest"
-	"github.com/mirabilis-astro/mirabilis/model/config"
 	"github.com/mirabilis-astro/mirabilis/model/fit"
 	"github.com/mirabilis-astro/mirabilis/plots"
 )
@@ -52,14 +50,7 @@ func TestFiguresOfSmallFit(t *testing.T) {
 	}
 	dir := t.TempDir()
 	cfgPath, _ := mocktest.Catalog(t, dir, figTestSurvey, figTestSampler, fit.SpecFromConfig)
-	cfg, err := config.Load(cfgPath)
-	if err != nil {
-		t.Fatal(err)
-	}
-	out, err := fit.Fit(context.Background(), cfg, fit.Options{Steps: 30, Threads: 2})
-	if err != nil {
-		t.Fatal(err)
-	}
+	out := shortFit(t, cfgPath, fit.Options{Steps: 30, Threads: 2})
 	if out.Summary == nil {
 		t.Fatal("the fit ended without a summary")
 	}

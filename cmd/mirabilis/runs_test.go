@@ -1,7 +1,6 @@
 package main
 
 import (
-	"context"
 	"encoding/json"
 	"image/png"
 	"os"
@@ -10,7 +9,6 @@ import (
 	"testing"
 
 	"github.com/mirabilis-astro/mirabilis/internal/mocktest"
-	"github.com/mirabilis-astro/mirabilis/model/config"
 	"github.com/mirabilis-astro/mirabilis/model/fit"
 )
 
@@ -23,14 +21,7 @@ func TestCommandsOnARun(t *testing.T) {
 	}
 	dir := t.TempDir()
 	cfgPath, _ := mocktest.Catalog(t, dir, figTestSurvey, figTestSampler, fit.SpecFromConfig)
-	cfg, err := config.Load(cfgPath)
-	if err != nil {
-		t.Fatal(err)
-	}
-	out, err := fit.Fit(context.Background(), cfg, fit.Options{Steps: 30, Threads: 2})
-	if err != nil {
-		t.Fatal(err)
-	}
+	out := shortFit(t, cfgPath, fit.Options{Steps: 30, Threads: 2})
 	runDir := out.Dir
 
 	// assign: one source, as text and as JSON with the documented keys.

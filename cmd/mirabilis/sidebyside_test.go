@@ -1,16 +1,13 @@
 package main
 
 import (
-	"context"
 	"encoding/json"
-	"os"
 	"path/filepath"
 	"strings"
 	"testing"
 
 	"github.com/mirabilis-astro/mirabilis/internal/mocktest"
 	"github.com/mirabilis-astro/mirabilis/model/batch"
-	"github.com/mirabilis-astro/mirabilis/model/config"
 	"github.com/mirabilis-astro/mirabilis/model/fit"
 )
 
@@ -24,28 +21,10 @@ func TestReportSideBySide(t *testing.T) {
 	}
 	dir := t.TempDir()
 	cfgPath, _ := mocktest.Catalog(t, dir, figTestSurvey, figTestSampler, fit.SpecFromConfig)
-	body, err := os.ReadFile(cfgPath)
-	if err != nil {
-		t.Fatal(err)
-	}
-	power := filepath.Join(dir, "power.toml")
-	text := strings.Replace(string(body), `dTheta_dR = "uniform(-8, 8)"`, `alpha = "uniform(-0.3, 0.3)"`, 1)
-	if text == string(body) {
-		t.Fatal("the test galaxy's fit no longer has the dTheta_dR prior this test replaces")
-	}
-	if err := os.WriteFile(power, []byte(text+"\n[rotation]\ncurve = \"power\"\n"), 0o644); err != nil {
-		t.Fatal(err)
-	}
+	power := variantOf(t, cfgPath, "power.toml", `dTheta_dR = "uniform(-8, 8)"`, `alpha = "uniform(-0.3, 0.3)"`, "\n[rotation]\ncurve = \"power\"\n")
 	var runs []string
 	for i, path := range []string{cfgPath, power} {
-		cfg, err := config.Load(path)
-		if err != nil {
-			t.Fatal(err)
-		}
-		out, err := fit.Fit(context.Background(), cfg, fit.Options{Steps: 20, Threads: 2, Out: filepath.Join(dir, []string{"free", "power"}[i])})
-		if err != nil {
-			t.Fatal(err)
-		}
+		out := shortFit(t, path, fit.Options{Steps: 20, Threads: 2, Out: filepath.Join(dir, []string{"free", "power"}[i])})
 		runs = append(runs, out.Dir)
 	}
 	if code, _, stderr := runCLI(t, append([]string{"report"}, runs...)...); code == 0 || !strings.Contains(stderr, "different configurations") {
