@@ -245,10 +245,11 @@ func TestCheckConfiguration(t *testing.T) {
 	if err := json.Unmarshal([]byte(out), &rep); err != nil {
 		t.Fatalf("%v\n%s", err, out)
 	}
-	// demo-fit.toml: 10 free global parameters, 3 for each of 4 arms, and 4 of the 5
-	// membership fractions as coordinates (the fifth follows from the sum).
+	// demo-fit.toml: 11 free global parameters (scale_height among them), 3 for each of 4
+	// arms, and 4 of the 5 membership fractions as coordinates (the fifth follows from the
+	// sum).
 	if code != 0 || rep.Kind != "configuration" || !rep.Valid || len(rep.Problems) != 0 || rep.Catalog.Sources != 2 ||
-		rep.Catalog.Arms["lantern"] != 1 || rep.Configuration.RotationCurve != "linear" || rep.Configuration.SampledDimensions != 26 ||
+		rep.Catalog.Arms["lantern"] != 1 || rep.Configuration.RotationCurve != "linear" || rep.Configuration.SampledDimensions != 27 ||
 		len(rep.Configuration.Arms) != 4 || len(rep.Warnings) != 1 || rep.Warnings[0].Line != 3 {
 		t.Errorf("check --format json: exit %d, %+v", code, rep)
 	}
