@@ -1,6 +1,10 @@
 package model
 
-import "math"
+import (
+	"math"
+
+	"github.com/mirabilis-astro/mirabilis/internal/fastexp"
+)
 
 // nodeScratch holds one source's node values during an indexed evaluation: the log part a_j
 // and the linear part l_j of the integrand times the weight, w_j f(u_j) = l_j exp(a_j).
@@ -149,7 +153,7 @@ func (L *Likelihood) sourceIndexed(i int, st *state, ek int, ns *nodeScratch) (f
 	}
 	var sum float64
 	for j, v := range a {
-		sum += lin[j] * math.Exp(v-mx)
+		sum += lin[j] * fastexp.Exp(v-mx)
 	}
 	if !(sum > 1e-280) || math.IsInf(sum, 1) {
 		return 0, false
