@@ -1,6 +1,10 @@
 package arms
 
-import "math"
+import (
+	"math"
+
+	"github.com/mirabilis-astro/mirabilis/internal/fastexp"
+)
 
 // windingSteps holds the factors that carry an arm's density from one winding to the next
 // without a logarithm or an exponential of its own.
@@ -36,7 +40,7 @@ func (d *Density) Mixture(f []float64, R, beta float64) float64 {
 	if !(r >= minRadius) {
 		r = minRadius
 	}
-	sum := f[0] * math.Exp(d.lnField-R*d.invScale)
+	sum := f[0] * fastexp.Exp(d.lnField-R*d.invScale)
 	invR := 1 / r
 	arms := d.arms
 	f = f[1 : len(arms)+1]
@@ -62,9 +66,9 @@ func (d *Density) armSteps(c *armConst, R, beta, invR float64) float64 {
 	below := bn < c.kink
 	var rk float64
 	if below {
-		rk = math.Exp(c.a1 - c.t1*bn)
+		rk = fastexp.Exp(c.a1 - c.t1*bn)
 	} else {
-		rk = math.Exp(c.a2 - c.t2*bn)
+		rk = fastexp.Exp(c.a2 - c.t2*bn)
 	}
 	var s float64
 	for n := first; ; {
@@ -74,7 +78,7 @@ func (d *Density) armSteps(c *armConst, R, beta, invR float64) float64 {
 		}
 		x := (R - rk) * cs * invW
 		if h := 0.5 * x * x; h < maxHalfSquare {
-			s += d.edgeSteps(c, bn) * cs * math.Exp(-h)
+			s += d.edgeSteps(c, bn) * cs * fastexp.Exp(-h)
 		}
 		if n++; n > last {
 			break
@@ -87,7 +91,7 @@ func (d *Density) armSteps(c *armConst, R, beta, invR float64) float64 {
 			rk *= c.fast.step2
 		default: // the winding crosses the kink
 			below = false
-			rk = math.Exp(c.a2 - c.t2*bn)
+			rk = fastexp.Exp(c.a2 - c.t2*bn)
 		}
 	}
 	return s * invW * c.norm * invR
@@ -100,13 +104,13 @@ func (d *Density) edgeSteps(c *armConst, bn float64) float64 {
 	p, q := 1.0, 1.0
 	switch {
 	case u < 37:
-		eu := math.Exp(-u)
+		eu := fastexp.Exp(-u)
 		p += eu
 		if v < 37 {
 			q += c.fast.edgeSpan / eu
 		}
 	case v < 37:
-		q += math.Exp(-v)
+		q += fastexp.Exp(-v)
 	}
 	return 1 / (p * q)
 }

@@ -1,6 +1,10 @@
 package model
 
-import "math"
+import (
+	"math"
+
+	"github.com/mirabilis-astro/mirabilis/internal/fastexp"
+)
 
 // nodeScratch holds one source's node values during an indexed evaluation: the log part a_j
 // and the linear part l_j of the integrand times the weight, w_j f(u_j) = l_j exp(a_j).
@@ -50,6 +54,12 @@ func (L *Likelihood) sourceIndexed(i int, st *state, ek int, ns *nodeScratch) (f
 	pmErr2 := [2]float64{s.PMErr[0] * s.PMErr[0], s.PMErr[1] * s.PMErr[1]}
 	bar, sigVir := spec.Bar, st.sigVir
 	galaxy, label := spec.Galaxy, s.Label
+	layer := galaxy && spec.Vertical
+	zSun, invH := st.zSun, 0.0
+	if layer {
+		aConst += st.layerConst
+		invH = 1 / st.scaleHeight
+	}
 	for j := range a {
 		x, y := r0-g.px[j], g.py[j]
 		R := math.Sqrt(x*x + y*y)
@@ -58,6 +68,10 @@ func (L *Likelihood) sourceIndexed(i int, st *state, ek int, ns *nodeScratch) (f
 			cb, sb = x/R, y/R
 		}
 		aj, lj := g.base[j]+aConst, g.w[j]
+		if layer {
+			t := (g.dz[j] + zSun) * invH
+			aj -= 0.5 * t * t
+		}
 		if hasV || hasPM {
 			var th float64
 			switch st.curveKind {
@@ -139,7 +153,7 @@ func (L *Likelihood) sourceIndexed(i int, st *state, ek int, ns *nodeScratch) (f
 	}
 	var sum float64
 	for j, v := range a {
-		sum += lin[j] * math.Exp(v-mx)
+		sum += lin[j] * fastexp.Exp(v-mx)
 	}
 	if !(sum > 1e-280) || math.IsInf(sum, 1) {
 		return 0, false

@@ -5,6 +5,7 @@ import (
 	"math"
 	"sort"
 
+	"github.com/mirabilis-astro/mirabilis/internal/fastexp"
 	"github.com/mirabilis-astro/mirabilis/internal/roots"
 )
 
@@ -226,7 +227,7 @@ func (b BarScatter) Variance(R, sigmaVir float64) float64 {
 	switch {
 	case b.Scale > 0:
 		if x := (R - b.RInner) / b.Scale; x < 40 { // beyond, S < 5e-18: nothing at float64 precision
-			s = 1 / (1 + math.Exp(x))
+			s = 1 / (1 + fastexp.Exp(x))
 		}
 	case R < b.RInner:
 		s = 1

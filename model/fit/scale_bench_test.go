@@ -10,6 +10,7 @@ import (
 	"sync"
 	"testing"
 
+	"github.com/mirabilis-astro/mirabilis/internal/fastexp"
 	"github.com/mirabilis-astro/mirabilis/mcmc"
 	"github.com/mirabilis-astro/mirabilis/model"
 	"github.com/mirabilis-astro/mirabilis/model/catalog"
@@ -208,7 +209,7 @@ var rooflineSink float64
 // scatter (one exponential), the field density (one exponential), for each of four arms
 // the centre line's radius at the node's azimuth (one exponential) and its Gaussian (one
 // exponential), the kinematic normalisation (a square root) and the node's term of the
-// quadrature sum (one exponential).
+// quadrature sum (one exponential). Exponentials are fastexp.Exp, as in the likelihood.
 func rooflineKernel(in *rooflineInput) float64 {
 	var sum float64
 	const r0, th0, slope, vs, us, w0 = 8.2, 232, -0.6, -3, 2, 0.3
@@ -225,18 +226,18 @@ func rooflineKernel(in *rooflineInput) float64 {
 		rot := th0 + slope*(R-r0) + vs
 		vx := rot*sb + us*cb - 10
 		vy := rot*cb - us*sb - 245
-		v2 := 36 + 1600/(1+math.Exp((R-4)*2))
+		v2 := 36 + 1600/(1+fastexp.Exp((R-4)*2))
 		inv := in.invKD[j]
 		r1, r2, r3 := 40-(vx*0.6+vy*0.8), 3-(vy*0.6-vx*0.8)*inv, 0.1-7*inv
 		vv1, vv2 := 9+v2, 0.01+v2*inv*inv
 		z2 := r1*r1/vv1 + (r2*r2+r3*r3)/vv2
-		s := 0.15 * math.Exp(-R*(1.0/3))
+		s := 0.15 * fastexp.Exp(-R*(1.0/3))
 		for k := range a {
-			rk := math.Exp(a[k] - t[k]*beta)
+			rk := fastexp.Exp(a[k] - t[k]*beta)
 			g := (R - rk) * (1 / w0)
-			s += 0.2 * math.Exp(-0.5*g*g)
+			s += 0.2 * fastexp.Exp(-0.5*g*g)
 		}
-		sum += in.w[j] * s / math.Sqrt(vv1*vv2*vv2) * math.Exp(in.base[j]-0.5*z2)
+		sum += in.w[j] * s / math.Sqrt(vv1*vv2*vv2) * fastexp.Exp(in.base[j]-0.5*z2)
 	}
 	return sum
 }
