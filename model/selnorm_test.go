@@ -114,3 +114,47 @@ func TestNormalisationAgainstReference(t *testing.T) {
 		}
 	}
 }
+
+// TestNormalisationWholeSky checks that a selection that sees everything (no band, no
+// excluded longitudes, a completeness falling only at 10⁶ kpc) over a distance range that
+// holds the whole Galaxy gives each component its whole mass: one, as the densities of
+// package model, Arms are normalised (MODEL.md §4; a closed form, ∫ E dβ = Z_k), for the
+// layer at several heights and for the plane.
+func TestNormalisationWholeSky(t *testing.T) {
+	spec := testSpec(t, ErrorsGaussian)
+	p, err := spec.NewParams(testValues())
+	if err != nil {
+		t.Fatal(err)
+	}
+	sel := Selection{HalfDistance: 1e6, Softness: 1}
+	for _, vertical := range []bool{true, false} {
+		for _, hz := range [][2]float64{{0.025, 0}, {0.3, 0.02}, {0.1, -0.03}} {
+			n := newNormaliser(sel, vertical, 1e-4, 100)
+			z := make([]float64, spec.NumComponents())
+			n.values(z, p.Density, p.Motion.R0(), hz[0], hz[1], spec.DiskScale)
+			for m, v := range z {
+				if math.Abs(v-1) > 1e-6 {
+					t.Errorf("vertical %v, H = %g, z_sun = %g: Z_%d = %.9f, want 1", vertical, hz[0], hz[1], m, v)
+				}
+			}
+		}
+	}
+}
+
+// TestNormalisationInactive checks that without a selection nothing changes: every Z_m is 1
+// and ln L_i carries no normalisation.
+func TestNormalisationInactive(t *testing.T) {
+	spec := testSpec(t, ErrorsGaussian)
+	p, err := spec.NewParams(testValues())
+	if err != nil {
+		t.Fatal(err)
+	}
+	if p.LogNorm != 0 {
+		t.Errorf("LogNorm = %g without a selection, want 0", p.LogNorm)
+	}
+	for m, v := range spec.Normalisation(p, nil) {
+		if v != 1 {
+			t.Errorf("Z_%d = %g without a selection, want 1", m, v)
+		}
+	}
+}

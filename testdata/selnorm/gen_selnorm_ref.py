@@ -19,7 +19,8 @@ The integral runs in heliocentric cylindrical coordinates (s, l, z), dV = s ds d
 With vertical = "none" the in-plane density is integrated with S(l, 0, s) over
 s in [d_min, d_max].
 
-Run from the repository root: /usr/bin/python3 testdata/selnorm/gen_selnorm_ref.py
+Run from the repository root: /usr/bin/python3 testdata/selnorm/gen_selnorm_ref.py [CASE ...]
+(names of cases to compute, all by default; SELNORM_OUT names another output file).
 Written with Debian's python3-numpy 1.24.2 and python3-scipy 1.10.1.
 """
 
@@ -248,7 +249,7 @@ def main():
         z = normalisation(case)
         print(case["name"], z, flush=True)
         out.append({"name": case["name"], "Z": z})
-    with open(os.path.join(here, "selnorm_ref.json"), "w") as f:
+    with open(os.environ.get("SELNORM_OUT", os.path.join(here, "selnorm_ref.json")), "w") as f:
         json.dump({"numpy": np.__version__, "scipy": scipy.__version__, "cases": out}, f, indent=1)
         f.write("\n")
 
