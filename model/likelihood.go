@@ -389,7 +389,7 @@ func (L *Likelihood) nodeValues(i int, p *Params, sc *scratch, memb []float64) {
 }
 
 // SourceLogL returns ln L_i of source i under p: its integral, less p.LogNorm when the spec
-// has a selection, so that L_i is a density of the source's data (package model, Selection).
+// has a selection, so that L_i is a density of the source's data (see Spec.Normalisation).
 func (L *Likelihood) SourceLogL(i int, p *Params) float64 {
 	sc := L.getScratch(L.grids[i].layout.Len(), 0)
 	defer L.pool.Put(sc)

@@ -6,11 +6,13 @@ import (
 	"slices"
 
 	"github.com/mirabilis-astro/mirabilis/arms"
+	"github.com/mirabilis-astro/mirabilis/internal/fastexp"
 	"github.com/mirabilis-astro/mirabilis/model/quad"
 )
 
-// The selection's normalisation (package model, Selection): with a survey selection
-// S(l, b, d), each component's density is divided by its selected share
+// The selection's normalisation: with a survey selection S(l, b, d) (Selection), each
+// component's density is divided by its selected share, so that a source's likelihood is a
+// density of its data and the fractions f_m are the Galaxy's, not the catalog's:
 //
 //	Z_m = ∫ ρ_m S dV over d in [DMin, DMax],   ρ_m = Σ_m(R, β) · N(z; 0, H),  z = d sin b + z⊙,
 //
@@ -24,16 +26,21 @@ import (
 //     sin δ = (P + p_z z)/√(s² + z²)); the 3-D distance limits cut |z| to
 //     [√(DMin² − s²), √(DMax² − s²)]; the layer's share in the remaining intervals is a
 //     difference of normal CDFs, and the distance term S(√(s² + z²)) is taken to second
-//     order in z² with the truncated second moment (by Gauss–Legendre nodes near the Sun);
+//     order in z² with the truncated second moment (by Gauss–Legendre nodes in z where the
+//     layer is thick against s, near the Sun);
 //   - across: along the radial line from the Galactic centre at azimuth β, in R, split
 //     where the line crosses an excluded longitude's edge, the circles s = DMin and
 //     s = DMax, and the place where the band's edge meets the mid-plane (graded over the
 //     scale H/|dz/dR| on which the layer passes through the edge), Gauss–Legendre on each
 //     piece; an arm's line without any of these takes Gauss–Hermite nodes across the arm;
-//   - along: in azimuth, by adaptive Gauss–Kronrod (7/15) panels, an arm over its whole
-//     unfolded range [β_start − 30τ, β_end + 30τ] (so every winding the density counts is
-//     counted once) with breakpoints at its ends and its kink, the field over [−π, π] with
-//     breakpoints where the radial line passes the Sun and touches the circles DMin, DMax.
+//   - along: in azimuth, by adaptive Gauss–Kronrod (7/15) panels, an arm over its unfolded
+//     range (every winding the density counts is one stretch of it, counted once; beyond
+//     16τ of its ends the end factor's mass is below 1e-8 and is left out) with breakpoints
+//     at its ends and its kink, the field over [−π, π] with breakpoints where the radial
+//     line passes the Sun and touches the circles DMin, DMax.
+//
+// Measured against brute-force integrals (testdata/selnorm) the values are within a few
+// 1e-6 of Z_m; they cost about 20 000–35 000 plane points for a field and two arms.
 //
 // The density is the one the likelihood's numerator uses (arms.Density: the same widths,
 // end factors and kink), so that the departure of ∫ ρ_m dA from one cancels.
@@ -44,7 +51,7 @@ const (
 	armReach = 6.5
 	// normTol is the outer quadrature's tolerance on Σ |K15 − G7|, relative to the
 	// component's value; the K15 sums it accepts are far more accurate than that.
-	normTol = 1e-6
+	normTol = 3e-5
 	// maxOuterPanel is the longest first panel in azimuth (rad).
 	maxOuterPanel = 1.0
 	// maxOuterSplits bounds the number of bisections of one component's azimuth integral.
@@ -62,11 +69,15 @@ const (
 
 // grading are the offsets, in units of a transition's scale, of the breakpoints placed on
 // each side of a steep transition (the layer passing through the band's edge).
-var grading = [...]float64{1, 3, 8}
+var grading = [...]float64{2, 6}
+
+// armPiece and fieldPiece are the longest pieces across, in widths w/cos ψ of the arm and in
+// scale lengths h of the field disk.
+const armPiece, fieldPiece = 2.0, 2.0
 
 var (
-	glX, glW   = gaussLegendre(6) // across, on each piece
-	ghX, ghW   = gaussHermite(12) // across an arm without breakpoints
+	glX, glW   = gaussLegendre(4) // across, on each piece (and near the Sun, in height)
+	ghX, ghW   = gaussHermite(8)  // across an arm without breakpoints
 	kx, kw, kg = quad.UnitRule()  // along
 )
 
@@ -154,7 +165,8 @@ type normaliser struct {
 	px, py, pz   float64 // the north celestial pole in Galactic axes
 	cutLo, cutHi bool    // whether the band has a lower, an upper declination limit
 	sinLo, sinHi float64
-	excl         [][2]float64 // excluded longitudes: start in [0, 2π), width in (0, 2π]
+	excl         [][4]float64 // excluded longitudes: cos, sin of either edge (start, end)
+	exclWide     []bool       // whether the range is wider than π
 	rays         [][2]float64 // cos l, sin l of every exclusion edge
 	dmin, dmax   float64
 	compl        bool
@@ -170,6 +182,9 @@ type normaliser struct {
 	cuts []cut
 	pts  []float64
 	todo []span
+
+	// points counts the plane points at which the layer's share was computed.
+	points int
 }
 
 // newNormaliser returns the normaliser of selection sel over distances [dmin, dmax] (kpc),
@@ -184,15 +199,14 @@ func newNormaliser(sel Selection, vertical bool, dmin, dmax float64) *normaliser
 		n.cutHi, n.sinHi = true, math.Sin(sel.DecMax)
 	}
 	for _, e := range sel.ExcludeL {
-		start := math.Mod(e[0], 2*math.Pi)
-		if start < 0 {
-			start += 2 * math.Pi
-		}
 		width := math.Mod(e[1]-e[0], 2*math.Pi)
-		if width <= 0 {
+		if width < 0 {
 			width += 2 * math.Pi
 		}
-		n.excl = append(n.excl, [2]float64{start, width})
+		s0, c0 := math.Sincos(e[0])
+		s1, c1 := math.Sincos(e[1])
+		n.excl = append(n.excl, [4]float64{c0, s0, c1, s1})
+		n.exclWide = append(n.exclWide, width > math.Pi)
 		for _, l := range e {
 			s, c := math.Sincos(l)
 			n.rays = append(n.rays, [2]float64{c, s})
@@ -209,7 +223,7 @@ func (n *normaliser) completeness(d float64) (s, ds float64) {
 	if !n.compl {
 		return 1, 0
 	}
-	e := math.Exp((d - n.half) / n.soft)
+	e := fastexp.Exp((d - n.half) / n.soft)
 	s = 1 / (1 + e)
 	return s, -s * (1 - s) / n.soft
 }
@@ -217,16 +231,16 @@ func (n *normaliser) completeness(d float64) (s, ds float64) {
 // excluded reports whether the direction of the plane point (x, y) lies in an excluded
 // longitude range.
 func (n *normaliser) excluded(x, y float64) bool {
-	l := math.Atan2(y, x)
-	for _, e := range n.excl {
-		d := l - e[0]
-		if d < 0 {
-			d += 2 * math.Pi
-		}
-		if d < 0 {
-			d += 2 * math.Pi
-		}
-		if d < e[1] {
+	for i, e := range n.excl {
+		// The range runs counter-clockwise from edge e0 to edge e1: (x, y) lies past e0
+		// and before e1. A range wider than π is the complement of the narrower one.
+		past := e[0]*y-e[1]*x >= 0
+		before := x*e[3]-y*e[2] >= 0
+		if n.exclWide[i] {
+			if past || before {
+				return true
+			}
+		} else if past && before {
 			return true
 		}
 	}
@@ -352,7 +366,7 @@ func (n *normaliser) layerShare(a, b float64, second bool) (m0, m2 float64) {
 		return m0, 0
 	}
 	const invSqrt2Pi = 0.3989422804014327
-	f1, f2 := invSqrt2Pi*math.Exp(-0.5*u1*u1), invSqrt2Pi*math.Exp(-0.5*u2*u2)
+	f1, f2 := invSqrt2Pi*fastexp.Exp(-0.5*u1*u1), invSqrt2Pi*fastexp.Exp(-0.5*u2*u2)
 	g1, g2 := u1*f1, u2*f2
 	if math.IsInf(u1, 0) {
 		g1 = 0
@@ -382,8 +396,8 @@ func (n *normaliser) layerExact(a, b, s, s0 float64) float64 {
 		for i, x := range glX {
 			z := c + hw*x
 			u := (z + n.zsun) / n.h
-			sd, _ := n.completeness(math.Hypot(s, z))
-			sum += hw * glW[i] * invSqrt2Pi * math.Exp(-0.5*u*u) / n.h * (sd - s0)
+			sd, _ := n.completeness(math.Sqrt(s*s + z*z))
+			sum += hw * glW[i] * invSqrt2Pi * fastexp.Exp(-0.5*u*u) / n.h * (sd - s0)
 		}
 	}
 	return sum
@@ -393,6 +407,7 @@ func (n *normaliser) layerExact(a, b, s, s0 float64) float64 {
 // (x, y) (kpc): ∫ N(z + z⊙; 0, H) S(l, b, d) dz over d in [DMin, DMax], or with vertical
 // "none" S(l, 0, s) for s in [DMin, DMax].
 func (n *normaliser) visible(x, y float64) float64 {
+	n.points++
 	s2 := x*x + y*y
 	s := math.Sqrt(s2)
 	if s >= n.dmax || (!n.vertical && s < n.dmin) {
@@ -421,9 +436,16 @@ func (n *normaliser) visible(x, y float64) float64 {
 	if s < n.dmin {
 		zd = math.Sqrt(n.dmin*n.dmin - s2)
 	}
-	near := n.compl && s < 3*(math.Abs(n.zsun)+4*n.h)
-	second := n.compl && !near
 	s0, ds := n.completeness(s)
+	// S(√(s² + z²)) to second order in z² is good to (S″/2)(z²/2s)², below 1e-7 of S unless
+	// the layer is thick against s; there the nodes take S itself.
+	near := false
+	if n.compl {
+		m2 := n.h*n.h + n.zsun*n.zsun
+		dd := m2 / (2 * s)
+		near = dd > 0.3*n.soft || math.Abs(ds)*(1/n.soft+1/s)*3*m2*m2/(8*s*s) > 1e-6*s0
+	}
+	second := n.compl && !near
 	var m0, m2, extra float64
 	// Beyond layerReach·H of the mid-plane the layer's share is below 1e-19.
 	wlo, whi := -n.zsun-layerReach*n.h, -n.zsun+layerReach*n.h
@@ -601,11 +623,11 @@ func (n *normaliser) lineSum(kind int, cb, sb, rk, c, maxLen float64) float64 {
 				}
 				var f float64
 				if kind < 0 {
-					f = R * math.Exp(-R*n.invScale)
+					f = R * fastexp.Exp(-R*n.invScale)
 				} else {
 					wd := n.dens.Width(kind, R)
 					u := (R - rk) * c / wd
-					f = c * invSqrt2Pi * math.Exp(-0.5*u*u) / wd
+					f = c * invSqrt2Pi * fastexp.Exp(-0.5*u*u) / wd
 				}
 				sum += hw * glW[j] * f * v
 			}
@@ -641,7 +663,7 @@ func (n *normaliser) armLine(k int, beta float64) float64 {
 	}
 	lo = max(lo, 0)
 	n.panels(lo, hi)
-	return e * n.lineSum(k, cb, sb, rk, c, 2*min(wk, wIn)/c)
+	return e * n.lineSum(k, cb, sb, rk, c, armPiece*min(wk, wIn)/c)
 }
 
 // fieldLine returns the field disk's selected mass per unit azimuth at azimuth β, without
@@ -651,7 +673,7 @@ func (n *normaliser) fieldLine(beta float64) float64 {
 	hi := n.r0 + n.dmax
 	n.lineCuts(cb, sb, 0, hi)
 	n.panels(0, hi)
-	maxLen := 2 / n.invScale
+	maxLen := fieldPiece / n.invScale
 	if n.compl {
 		maxLen = min(maxLen, 2*n.soft)
 	}

@@ -158,3 +158,55 @@ func TestNormalisationInactive(t *testing.T) {
 		}
 	}
 }
+
+// TestNormalisationBandAgreesWithSelection checks the normaliser's heights admitted by the
+// declination band and its longitude test against Selection.BandLatitudes, which finds the
+// latitudes in closed form by angle (sin δ = A sin b + B cos b) and is itself checked against
+// astropy: at every longitude and projected distance, the heights s tan b of its intervals'
+// ends.
+func TestNormalisationBandAgreesWithSelection(t *testing.T) {
+	for _, sel := range []Selection{
+		{DecMin: -30 * deg, DecMax: 90 * deg, ExcludeL: [][2]float64{{350 * deg, 10 * deg}}},
+		{DecMin: -40 * deg, DecMax: 65 * deg, ExcludeL: [][2]float64{{60 * deg, 75 * deg}, {100 * deg, 300 * deg}}},
+		{DecMin: -90 * deg, DecMax: -5 * deg},
+		{DecMin: 20 * deg, DecMax: 70 * deg},
+	} {
+		n := newNormaliser(sel, true, 0.05, 30)
+		for i := range 720 {
+			l := (float64(i) + 0.3) * 0.5 * deg
+			want := sel.BandLatitudes(l)
+			c, s := math.Cos(l), math.Sin(l)
+			if got := n.excluded(c, s); got != (sel.excluded(l)) {
+				t.Errorf("%+v: l = %.2f°: excluded %v, Selection says %v", sel, l/deg, got, !got)
+				continue
+			}
+			if want == nil {
+				continue
+			}
+			for _, dist := range []float64{0.3, 4, 17} {
+				x, y := dist*c, dist*s
+				var iv [3][2]float64
+				k := 1
+				iv[0] = [2]float64{math.Inf(-1), math.Inf(1)}
+				if n.cutLo || n.cutHi {
+					k = n.band(n.px*x+n.py*y, dist, &iv)
+				}
+				if k != len(want) {
+					t.Errorf("%+v: l = %.2f°, s = %g: %d intervals, Selection has %d (%v)", sel, l/deg, dist, k, len(want), want)
+					continue
+				}
+				for j, w := range want {
+					for e := range 2 {
+						wz := dist * math.Tan(w[e])
+						if math.Abs(w[e]) > math.Pi/2-1e-12 {
+							wz = math.Copysign(math.Inf(1), w[e])
+						}
+						if g := iv[j][e]; !(g == wz || math.Abs(g-wz) <= 1e-9*math.Max(1, math.Abs(wz))) {
+							t.Errorf("%+v: l = %.2f°, s = %g: interval %d end %d at height %g, Selection %g", sel, l/deg, dist, j, e, g, wz)
+						}
+					}
+				}
+			}
+		}
+	}
+}

@@ -13,7 +13,7 @@ The integral runs in heliocentric cylindrical coordinates (s, l, z), dV = s ds d
     longitudes where the declination band's edge crosses the plane as breakpoints;
   - s on a fixed composite Gauss-Legendre grid (panels of 0.1 kpc, 6 nodes);
   - z by Gauss-Legendre nodes (16 per piece) within 9 H of the mid-plane, the pieces cut
-    where the line of constant (s, l) enters or leaves the declination band (the latitudes
+    at 0, 1.5 H and 4.5 H from the mid-plane (16 nodes give 1e-9 of the layer there) and where the line of constant (s, l) enters or leaves the declination band (the latitudes
     of A sin b + B cos b = sin(delta_edge), A and B from the celestial pole's Galactic
     position) and the spheres d = d_min, d = d_max; S(d) is evaluated at each node.
 With vertical = "none" the in-plane density is integrated with S(l, 0, s) over
@@ -144,7 +144,7 @@ def layer(case, s, l):
     H, zs = case["scale_height"], case["z_sun"]
     dmin, dmax = case["d_min"], case["d_max"]
     lo, hi = -zs - 9 * H, -zs + 9 * H
-    edges = [np.full_like(s, lo), np.full_like(s, hi)]
+    edges = [np.full_like(s, -zs + k * H) for k in (-9, -4.5, -1.5, 0, 1.5, 4.5, 9)]
     for b in band_latitudes(case, np.array([l]))[:, 0]:
         if not math.isnan(b):
             edges.append(s * math.tan(b))
@@ -232,7 +232,7 @@ def normalisation(case):
     for a, b in allowed_longitudes(case):
         inner = [p for p in pts if a < p < b]
         f = lambda l: plane_integrand(case, l, sx, sw)
-        v, err = integrate.quad_vec(f, a, b, points=inner or None, limit=4000, epsabs=1e-9, epsrel=1e-8, norm="max")
+        v, err = integrate.quad_vec(f, a, b, points=inner or None, limit=4000, epsabs=1e-8, epsrel=1e-7, norm="max")
         total += v
     return total.tolist()
 
