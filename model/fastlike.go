@@ -54,6 +54,12 @@ func (L *Likelihood) sourceIndexed(i int, st *state, ek int, ns *nodeScratch) (f
 	pmErr2 := [2]float64{s.PMErr[0] * s.PMErr[0], s.PMErr[1] * s.PMErr[1]}
 	bar, sigVir := spec.Bar, st.sigVir
 	galaxy, label := spec.Galaxy, s.Label
+	layer := galaxy && spec.Vertical
+	zSun, invH := st.zSun, 0.0
+	if layer {
+		aConst += st.layerConst
+		invH = 1 / st.scaleHeight
+	}
 	for j := range a {
 		x, y := r0-g.px[j], g.py[j]
 		R := math.Sqrt(x*x + y*y)
@@ -62,6 +68,10 @@ func (L *Likelihood) sourceIndexed(i int, st *state, ek int, ns *nodeScratch) (f
 			cb, sb = x/R, y/R
 		}
 		aj, lj := g.base[j]+aConst, g.w[j]
+		if layer {
+			t := (g.dz[j] + zSun) * invH
+			aj -= 0.5 * t * t
+		}
 		if hasV || hasPM {
 			var th float64
 			switch st.curveKind {

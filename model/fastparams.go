@@ -77,10 +77,12 @@ type indexed struct {
 	uvw        [6]slot
 	sigmaVir   slot
 	widthSlope slot
-	arms       []armSlots
-	free       []prior.Prior // priors of x[0 : len(free)]
-	derived    []derivedPrior
-	errKind    int
+	// scaleHeight and zSun are read only with vertical structure.
+	scaleHeight, zSun slot
+	arms              []armSlots
+	free              []prior.Prior // priors of x[0 : len(free)]
+	derived           []derivedPrior
+	errKind           int
 }
 
 // newIndexed resolves the parameter names of p. Every name the model needs must be a
@@ -132,6 +134,13 @@ func newIndexed(p *Posterior) (*indexed, error) {
 	ix.widthSlope = slot{idx: -1}
 	if s, ok := where[param.WidthSlope]; ok {
 		ix.widthSlope = s
+	}
+	ix.zSun = slot{idx: -1}
+	if spec.Vertical && spec.Galaxy {
+		ix.scaleHeight = need(param.ScaleHeight)
+		if s, ok := where[param.ZSun]; ok {
+			ix.zSun = s
+		}
 	}
 	for _, a := range spec.Arms {
 		as := armSlots{rref: need(a.Name + param.SuffixRref), pitch: need(a.Name + param.SuffixPitch), width: need(a.Name + param.SuffixWidth)}
@@ -196,12 +205,14 @@ type state struct {
 	nodes     *NodesCurve
 	speeds    []float64
 	sigVir    float64
-	layout    arms.Layout
-	density   arms.Density
-	frac      []float64
-	logFrac   []float64
-	cross     []arms.Crossing
-	terms     []float64 // per-source ln L_i of a shared evaluation
+	// scaleHeight H and zSun z⊙ (kpc) of the sources' layer, and −ln H − ½ ln 2π.
+	scaleHeight, zSun, layerConst float64
+	layout                        arms.Layout
+	density                       arms.Density
+	frac                          []float64
+	logFrac                       []float64
+	cross                         []arms.Crossing
+	terms                         []float64 // per-source ln L_i of a shared evaluation
 
 	// The block of sources one worker evaluates in a shared evaluation, made once per state.
 	block   func(worker, b int)
@@ -259,6 +270,13 @@ func (ix *indexed) set(st *state, spec *Spec, x []float64, nFree int) bool {
 	slope := ix.widthSlope.get(x)
 	if !isFiniteNumber(slope) {
 		return false
+	}
+	if spec.Vertical && spec.Galaxy {
+		st.scaleHeight, st.zSun = ix.scaleHeight.get(x), ix.zSun.get(x)
+		if !isFiniteNumber(st.scaleHeight) || !(st.scaleHeight > 0) || !isFiniteNumber(st.zSun) {
+			return false
+		}
+		st.layerConst = -math.Log(st.scaleHeight) - halfLog2Pi
 	}
 	st.layout.R0, st.layout.WidthSlope = r0, slope
 	st.layout.EdgeSoftening, st.layout.DiskScale = spec.EdgeSoftening, spec.DiskScale

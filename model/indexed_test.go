@@ -22,18 +22,23 @@ type indexedCase struct {
 	galaxy    bool
 	multiTurn bool // the first arm winds more than once round the centre
 	curve     CurveFamily
+	vertical  bool // the sources' Gaussian layer, with scale_height and z_sun
+	selection bool // a survey selection with a completeness in distance
 }
 
 var indexedCases = []indexedCase{
-	{"gaussian", ErrorsGaussian, true, false, CurveLinear},
-	{"tolerant", ErrorsTolerant, true, false, CurveLinear},
-	{"student", ErrorsStudent, true, false, CurveLinear},
-	{"parallax-gaussian", ErrorsGaussian, false, false, CurveLinear},
-	{"parallax-tolerant", ErrorsTolerant, false, false, CurveLinear},
-	{"parallax-student", ErrorsStudent, false, false, CurveLinear},
-	{"multi-turn-power", ErrorsGaussian, true, true, CurvePower},
-	{"multi-turn-student", ErrorsStudent, true, true, CurveLinear},
-	{"nodes-tolerant", ErrorsTolerant, true, false, CurveNodes},
+	{"gaussian", ErrorsGaussian, true, false, CurveLinear, false, false},
+	{"tolerant", ErrorsTolerant, true, false, CurveLinear, false, false},
+	{"student", ErrorsStudent, true, false, CurveLinear, false, false},
+	{"parallax-gaussian", ErrorsGaussian, false, false, CurveLinear, false, false},
+	{"parallax-tolerant", ErrorsTolerant, false, false, CurveLinear, false, false},
+	{"parallax-student", ErrorsStudent, false, false, CurveLinear, false, false},
+	{"multi-turn-power", ErrorsGaussian, true, true, CurvePower, false, false},
+	{"multi-turn-student", ErrorsStudent, true, true, CurveLinear, false, false},
+	{"nodes-tolerant", ErrorsTolerant, true, false, CurveNodes, false, false},
+	{name: "vertical-gaussian", errors: ErrorsGaussian, galaxy: true, curve: CurveLinear, vertical: true},
+	{name: "vertical-selection-student", errors: ErrorsStudent, galaxy: true, multiTurn: true, curve: CurveLinear, vertical: true, selection: true},
+	{name: "selection-tolerant", errors: ErrorsTolerant, galaxy: true, curve: CurveNodes, selection: true},
 }
 
 // indexedNodeRadii are the node radii (kpc) of the cases with a nodes curve.
@@ -89,7 +94,7 @@ func indexedPosterior(t testing.TB, c indexedCase, L *Likelihood) *Posterior {
 	for i, name := range names {
 		v := vals[name]
 		var pr prior.Prior = prior.Uniform{Min: v - 0.3*math.Abs(v) - 1, Max: v + 0.3*math.Abs(v) + 1}
-		if strings.HasSuffix(name, param.SuffixWidth) || strings.HasSuffix(name, param.SuffixRref) || name == param.SigmaVir {
+		if strings.HasSuffix(name, param.SuffixWidth) || strings.HasSuffix(name, param.SuffixRref) || name == param.SigmaVir || name == param.ScaleHeight {
 			pr = prior.Uniform{Min: 0.5 * v, Max: 1.5 * v}
 		}
 		if name == param.WidthSlope {
@@ -125,6 +130,10 @@ func indexedSpec(t testing.TB, c indexedCase) *Spec {
 	}
 	if c.multiTurn {
 		spec.Arms[0] = NewArmSpec("Corvid", 0, -40, 700, false)
+	}
+	spec.Vertical = c.vertical
+	if c.selection {
+		spec.Selection = Selection{HalfDistance: 6, Softness: 1.2}
 	}
 	return spec
 }
@@ -224,6 +233,9 @@ func pointValues(c indexedCase) map[string]float64 {
 		}
 	}
 	v[param.WidthSlope] = 0.01
+	if c.vertical {
+		v[param.ScaleHeight], v[param.ZSun] = 0.08, 0.015
+	}
 	return v
 }
 

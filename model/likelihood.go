@@ -37,7 +37,8 @@ type Source struct {
 // NewSources prepares the sources of a catalog for the likelihood of spec. Arm labels are
 // matched to the model's arm names without regard to case, as column names are (an exact
 // match wins where arms' names differ only in case). A source whose arm label names no arm
-// of the model is an error naming the catalog line and the nearest arm name.
+// of the model is an error naming the catalog line and the nearest arm name, and so is a
+// source in a direction the spec's selection does not see.
 func NewSources(cat *catalog.Catalog, spec *Spec) ([]Source, error) {
 	index := map[string]int{}
 	folded := map[string]int{} // lower-case name → arm, -1 where two arms share it
@@ -54,7 +55,7 @@ func NewSources(cat *catalog.Catalog, spec *Spec) ([]Source, error) {
 	}
 
 	out := make([]Source, len(cat.Sources))
-	var bad []string
+	var bad, unseen []string
 	for i, cs := range cat.Sources {
 		s := Source{Name: cs.Name, Line: cs.Line, Plx: cs.Parallax.Value, PlxErr: cs.Parallax.Err}
 		if cs.Frame == catalog.Galactic {
@@ -67,6 +68,9 @@ func NewSources(cat *catalog.Catalog, spec *Spec) ([]Source, error) {
 			s.PM[j], s.PMErr[j], s.HasPM[j] = m.Value, m.Err, m.OK
 		}
 		s.V, s.VErr, s.HasV, s.VLSR = cs.Vel.Value, cs.Vel.Err, cs.Vel.OK, cs.VelLSR
+		if why := spec.Selection.unseen(s.Sight.L, s.Sight.B); why != "" {
+			unseen = append(unseen, fmt.Sprintf("%s:%d: source %s at (l, b) = (%.4f°, %.4f°): %s", cat.Path, cs.Line, cs.Name, s.Sight.LDeg(), s.Sight.BDeg(), why))
+		}
 		if cs.Arm != "" && cs.Arm != "?" {
 			k, ok := index[cs.Arm]
 			if !ok {
@@ -86,6 +90,9 @@ func NewSources(cat *catalog.Catalog, spec *Spec) ([]Source, error) {
 	}
 	if len(bad) > 0 {
 		return nil, fmt.Errorf("%d source(s) name unknown arms:\n  %s", len(bad), strings.Join(bad, "\n  "))
+	}
+	if len(unseen) > 0 {
+		return nil, fmt.Errorf("%d source(s) lie where the survey's selection sees nothing (a catalog and its selection must agree):\n  %s", len(unseen), strings.Join(unseen, "\n  "))
 	}
 	return out, nil
 }
@@ -112,16 +119,51 @@ func (s *Source) DistanceRange(spec *Spec) (lo, hi float64, contradicts bool) {
 }
 
 // logBase returns the terms of the log-integrand that do not depend on the parameters, at
-// distance d (kpc): ln N(ϖ; 1/d, σϖ) plus, in the galaxy mode, 2 ln(d cos b), the Jacobian
-// of the in-plane density in u = ln d, or, in the parallax mode, ln d − ln(DMax − DMin), a
-// prior uniform in d written in u.
+// distance d (kpc): ln N(ϖ; 1/d, σϖ) plus, in the galaxy mode, the volume element in
+// u = ln d and the selection's completeness ln S(d): 3 ln d + ln cos b with vertical
+// structure (d³ cos b), 2 ln(d cos b) without (the Jacobian of the in-plane density); in
+// the parallax mode, ln d − ln(DMax − DMin), a prior uniform in d written in u.
 func (s *Source) logBase(spec *Spec, d float64) float64 {
 	z := (s.Plx - 1/d) / s.PlxErr
 	v := -0.5*z*z - math.Log(s.PlxErr) - halfLog2Pi
-	if spec.Galaxy {
-		return v + 2*math.Log(d*s.Sight.CosB)
+	if !spec.Galaxy {
+		return v + math.Log(d) - math.Log(spec.DMax-spec.DMin)
 	}
-	return v + math.Log(d) - math.Log(spec.DMax-spec.DMin)
+	if spec.Selection.HalfDistance != 0 {
+		v += spec.Selection.LogCompleteness(d)
+	}
+	if spec.Vertical {
+		return v + 3*math.Log(d) + math.Log(s.Sight.CosB)
+	}
+	return v + 2*math.Log(d*s.Sight.CosB)
+}
+
+// logLayer returns ln N(d sin b + z⊙; 0, H), the log-density of the sources' layer at the
+// height of distance d (kpc) along the sightline, for spec with vertical structure; 0
+// without.
+func (s *Source) logLayer(spec *Spec, p *Params, d float64) float64 {
+	if !spec.Vertical || !spec.Galaxy {
+		return 0
+	}
+	t := (d*s.Sight.SinB + p.ZSun) / p.ScaleHeight
+	return -0.5*t*t - math.Log(p.ScaleHeight) - halfLog2Pi
+}
+
+// LogSpatialPrior returns the log of the spatial factor of the source's integrand in
+// u = ln d at distance d (kpc) under p, without the parallax and kinematic terms: in the
+// galaxy mode ln [Σ_m f_m ρ_m(R, β) N(d sin b + z⊙; 0, H) d³ cos b S(d)] with vertical
+// structure and ln [Σ_m f_m ρ_m(R, β) (d cos b)² S(d)] without (over the source's label's
+// component alone when it has one); in the parallax mode ln [d / (DMax − DMin)]. Its
+// integral over u is not normalised by the selected share Σ_m f_m Z_m.
+func (s *Source) LogSpatialPrior(spec *Spec, p *Params, d float64) float64 {
+	z := (s.Plx - 1/d) / s.PlxErr
+	v := s.logBase(spec, d) - (-0.5*z*z - math.Log(s.PlxErr) - halfLog2Pi)
+	if !spec.Galaxy {
+		return v
+	}
+	R, cb, sb := s.Sight.InPlane(p.Motion.R0(), d)
+	n := spec.NumComponents()
+	return v + s.logLayer(spec, p, d) + s.logSpatial(spec, p, R, math.Atan2(sb, cb), nil, make([]float64, n))
 }
 
 // logKinematic returns the sum of the log-densities of the source's kinematic residuals at
@@ -217,13 +259,14 @@ func (s *Source) logSpatial(spec *Spec, p *Params, R, beta float64, comp []float
 }
 
 // LogIntegrand returns the natural log of the source's integrand at u = ln d under p, summed
-// over memberships: ln [N(ϖ; 1/d, σϖ) (d cos b)² Σ_m f_m ρ_m(R, β) K(d)], or in the
-// parallax mode ln [N(ϖ; 1/d, σϖ) d K(d) / (DMax − DMin)]. comp is scratch space of length
-// NumComponents.
+// over memberships: ln [N(ϖ; 1/d, σϖ) (d cos b)² Σ_m f_m ρ_m(R, β) K(d)], with vertical
+// structure ln [N(ϖ; 1/d, σϖ) d³ cos b N(d sin b + z⊙; 0, H) Σ_m f_m ρ_m(R, β) K(d)], each
+// times the selection's S(d), or in the parallax mode ln [N(ϖ; 1/d, σϖ) d K(d) /
+// (DMax − DMin)]. comp is scratch space of length NumComponents.
 func (s *Source) LogIntegrand(spec *Spec, p *Params, u float64, comp []float64) float64 {
 	d := math.Exp(u)
 	lk, pr := s.logKinematic(spec, p, d)
-	return s.logBase(spec, d) + lk + s.logSpatial(spec, p, pr.R, math.Atan2(pr.SinBeta, pr.CosBeta), nil, comp)
+	return s.logBase(spec, d) + lk + s.logLayer(spec, p, d) + s.logSpatial(spec, p, pr.R, math.Atan2(pr.SinBeta, pr.CosBeta), nil, comp)
 }
 
 // grid is a source's fixed quadrature: its layout, the distances of its nodes and the terms
@@ -231,26 +274,27 @@ func (s *Source) LogIntegrand(spec *Spec, p *Params, u float64, comp []float64) 
 //
 // The fast path reads the rest, one contiguous array per quantity: the quadrature weights
 // w, the node's place in the plane relative to the Sun (px, py) = d cos b (cos l, sin l)
-// (kpc), and 1/(k d) (mas/yr per km/s).
+// (kpc), its height above the Sun dz = d sin b (kpc), and 1/(k d) (mas/yr per km/s).
 type grid struct {
 	layout *quad.Layout
 	d      []float64
 	base   []float64
 
-	w, px, py, invKD []float64
+	w, px, py, dz, invKD []float64
 }
 
 func newGrid(spec *Spec, s *Source, l *quad.Layout) *grid {
 	n := l.Len()
-	flat := make([]float64, 4*n)
+	flat := make([]float64, 5*n)
 	g := &grid{layout: l, d: l.Nodes(), base: flat[:n:n], w: l.Weights(),
-		px: flat[n : 2*n : 2*n], py: flat[2*n : 3*n : 3*n], invKD: flat[3*n : 4*n : 4*n]}
+		px: flat[n : 2*n : 2*n], py: flat[2*n : 3*n : 3*n], dz: flat[3*n : 4*n : 4*n], invKD: flat[4*n : 5*n : 5*n]}
 	for j, u := range g.d {
 		d := math.Exp(u)
 		g.d[j] = d
 		g.base[j] = s.logBase(spec, d)
 		dc := d * s.Sight.CosB
 		g.px[j], g.py[j] = dc*s.Sight.CosL, dc*s.Sight.SinL
+		g.dz[j] = d * s.Sight.SinB
 		g.invKD[j] = 1 / (KmsPerKpcMasYr * d)
 	}
 	return g
@@ -324,7 +368,7 @@ func (L *Likelihood) nodeValues(i int, p *Params, sc *scratch, memb []float64) {
 	n := len(g.d)
 	for j, d := range g.d {
 		lk, pr := s.logKinematic(spec, p, d)
-		v := g.base[j] + lk
+		v := g.base[j] + lk + s.logLayer(spec, p, d)
 		var beta float64
 		if spec.Galaxy {
 			beta = math.Atan2(pr.SinBeta, pr.CosBeta)

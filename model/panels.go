@@ -184,6 +184,26 @@ func (L *Likelihood) features(s *Source, pilots []*Params, fs []func(float64) fl
 			}
 		}
 	}
+	// The sources' layer: along a sightline of latitude b its density N(d sin b + z⊙; 0, H)
+	// is a Gaussian in d of scale H/|sin b| about d = −z⊙/sin b (its peak when that lies
+	// ahead, where the sightline crosses the mid-plane); breakpoints at the centre and a
+	// few scales either side, where the integrand bends and then falls steeply.
+	if L.Spec.Galaxy && L.Spec.Vertical && s.Sight.SinB != 0 {
+		for _, p := range pilots {
+			scale := p.ScaleHeight / math.Abs(s.Sight.SinB)
+			d0 := -p.ZSun / s.Sight.SinB
+			if d0 > 0 {
+				add(math.Log(d0))
+			}
+			for _, k := range []float64{1, 2, 3, 5} {
+				for _, d := range []float64{d0 - k*scale, d0 + k*scale} {
+					if d > 0 {
+						add(math.Log(d))
+					}
+				}
+			}
+		}
+	}
 	var cross []arms.Crossing
 	for _, p := range pilots {
 		if L.Spec.Galaxy {

@@ -172,7 +172,7 @@ func checkUnusedParam(name string, fam CurveFamily, nNodes int) error {
 	case IsModelParameterName(name):
 		return nil
 	}
-	if near := spelling.Nearest(name, GlobalNames(fam, nNodes)); near != "" {
+	if near := spelling.Nearest(name, GlobalNames(fam, nNodes, true)); near != "" {
 		return fmt.Errorf("unknown parameter %q (did you mean %s?)", name, near)
 	}
 	return fmt.Errorf("unknown parameter %q", name)
@@ -184,13 +184,14 @@ func checkUnusedParam(name string, fam CurveFamily, nNodes int) error {
 func IsModelParameterName(name string) bool { return param.CouldBe(name) }
 
 // GlobalNames returns the names of the global parameters of a model whose rotation curve is
-// of family fam with nodes node radii, in the order of the parameter table (param.Table): R0,
-// the curve's parameters (Theta0 and dTheta_dR, Theta0 and alpha, or Theta_1 … Theta_nodes),
-// Usun, Vsun, Wsun, Us, Vs, Ws, sigma_vir, width_slope.
-func GlobalNames(fam CurveFamily, nodes int) []string {
+// of family fam with nodes node radii, with vertical structure or not, in the order of the
+// parameter table (param.Table): R0, the curve's parameters (Theta0 and dTheta_dR, Theta0
+// and alpha, or Theta_1 … Theta_nodes), Usun, Vsun, Wsun, Us, Vs, Ws, sigma_vir,
+// width_slope, and with vertical structure scale_height and z_sun.
+func GlobalNames(fam CurveFamily, nodes int, vertical bool) []string {
 	var names []string
 	for _, e := range param.Table() {
-		if e.Kind != param.Global {
+		if e.Kind != param.Global || (e.Vertical && !vertical) {
 			continue
 		}
 		switch e.Name {

@@ -40,6 +40,14 @@ type Spec struct {
 	Galaxy bool
 	// Tol is the quadrature tolerance, in ln L per source.
 	Tol float64
+	// Vertical puts the sources in a layer of Gaussian profile about the mid-plane, of scale
+	// height ScaleHeight with the Sun at height ZSun (Params): the spatial factor of the
+	// integrand in u = ln d is Σ_m f_m ρ_m(R, β) N(d sin b + z⊙; 0, H) d³ cos b. False is
+	// the in-plane form (d cos b)² Σ_m f_m ρ_m(R, β), with no height parameters.
+	Vertical bool
+	// Selection is the survey's selection function; the zero value selects everything.
+	// Its distance term multiplies each source's integrand.
+	Selection Selection
 }
 
 // NumComponents returns the number of membership components: the field and the arms.
@@ -90,7 +98,10 @@ func (s *Spec) Validate() error {
 			return fmt.Errorf("model: arm %s: empty azimuth range", a.Name)
 		}
 	}
-	return nil
+	if s.Selection.Active() && !s.Galaxy {
+		return fmt.Errorf("model: a survey selection needs the galaxy distance prior, not the parallax one")
+	}
+	return s.Selection.Validate()
 }
 
 // Params is one parameter set in the form the likelihood uses.
@@ -105,6 +116,9 @@ type Params struct {
 	// LogFrac holds ln f_m of the membership fractions, field first.
 	LogFrac []float64
 	frac    []float64
+	// ScaleHeight H (kpc) of the sources' layer and ZSun z⊙ (kpc), the Sun's height above
+	// its mid-plane; zero, and unused, when the spec has no vertical structure.
+	ScaleHeight, ZSun float64
 }
 
 // NewParams builds a parameter set from values by name (the names of the configuration and
@@ -135,6 +149,17 @@ func (s *Spec) NewParams(values map[string]float64) (*Params, error) {
 	}
 	if p.SigmaVir < 0 {
 		return nil, fmt.Errorf("parameter %s = %g must not be negative", param.SigmaVir, p.SigmaVir)
+	}
+	if s.Vertical {
+		if p.ScaleHeight, err = get(param.ScaleHeight, 0, true); err != nil {
+			return nil, err
+		}
+		if !(p.ScaleHeight > 0) {
+			return nil, fmt.Errorf("parameter %s = %g kpc must be positive", param.ScaleHeight, p.ScaleHeight)
+		}
+		if p.ZSun, err = get(param.ZSun, 0, false); err != nil {
+			return nil, err
+		}
 	}
 	slope, err := get(param.WidthSlope, 0, false)
 	if err != nil {

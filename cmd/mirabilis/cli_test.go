@@ -85,7 +85,7 @@ func TestEvalOutsidePrior(t *testing.T) {
 		t.Fatalf("simulate: %s", errs)
 	}
 	values := map[string]float64{"R0": 12, "Theta0": 232, "dTheta_dR": -0.6, "Usun": 10.5, "Vsun": 12.5, "Wsun": 7.5,
-		"Us": 2, "Vs": -3, "Ws": 0, "sigma_vir": 6,
+		"Us": 2, "Vs": -3, "Ws": 0, "sigma_vir": 6, "scale_height": 0.1, "z_sun": 0,
 		"Corvid_Rref": 4.9, "Corvid_pitch": 13, "Corvid_width": 0.25, "Lantern_Rref": 6.6, "Lantern_pitch": 11, "Lantern_width": 0.3,
 		"Tamarisk_Rref": 9.3, "Tamarisk_pitch": 12, "Tamarisk_width": 0.3, "Halcyon_Rref": 11.7, "Halcyon_pitch": 10, "Halcyon_width": 0.35,
 		"f_field": 0.15, "f_Corvid": 0.2125, "f_Lantern": 0.2125, "f_Tamarisk": 0.2125, "f_Halcyon": 0.2125}
@@ -245,10 +245,11 @@ func TestCheckConfiguration(t *testing.T) {
 	if err := json.Unmarshal([]byte(out), &rep); err != nil {
 		t.Fatalf("%v\n%s", err, out)
 	}
-	// demo-fit.toml: 10 free global parameters, 3 for each of 4 arms, and 4 of the 5
-	// membership fractions as coordinates (the fifth follows from the sum).
+	// demo-fit.toml: 11 free global parameters (scale_height among them), 3 for each of 4
+	// arms, and 4 of the 5 membership fractions as coordinates (the fifth follows from the
+	// sum).
 	if code != 0 || rep.Kind != "configuration" || !rep.Valid || len(rep.Problems) != 0 || rep.Catalog.Sources != 2 ||
-		rep.Catalog.Arms["lantern"] != 1 || rep.Configuration.RotationCurve != "linear" || rep.Configuration.SampledDimensions != 26 ||
+		rep.Catalog.Arms["lantern"] != 1 || rep.Configuration.RotationCurve != "linear" || rep.Configuration.SampledDimensions != 27 ||
 		len(rep.Configuration.Arms) != 4 || len(rep.Warnings) != 1 || rep.Warnings[0].Line != 3 {
 		t.Errorf("check --format json: exit %d, %+v", code, rep)
 	}

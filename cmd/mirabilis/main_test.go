@@ -138,7 +138,7 @@ func TestSimulateCheckEval(t *testing.T) {
 		t.Fatalf("check of the mock: exit %d, %s", code, out)
 	}
 	truth := map[string]float64{"R0": 8.25, "Theta0": 232, "dTheta_dR": -0.6, "Usun": 10.5, "Vsun": 12.5, "Wsun": 7.5,
-		"Us": 2, "Vs": -3, "Ws": 0, "sigma_vir": 6,
+		"Us": 2, "Vs": -3, "Ws": 0, "sigma_vir": 6, "scale_height": 0.1, "z_sun": 0,
 		"Corvid_Rref": 4.9, "Corvid_pitch": 13, "Corvid_width": 0.25, "Lantern_Rref": 6.6, "Lantern_pitch": 11, "Lantern_width": 0.3,
 		"Tamarisk_Rref": 9.3, "Tamarisk_pitch": 12, "Tamarisk_width": 0.3, "Halcyon_Rref": 11.7, "Halcyon_pitch": 10, "Halcyon_width": 0.35,
 		"f_field": 0.15, "f_Corvid": 0.2125, "f_Lantern": 0.2125, "f_Tamarisk": 0.2125, "f_Halcyon": 0.2125}

@@ -36,6 +36,19 @@ const (
 	DistanceParallax DistancePrior = "parallax"
 )
 
+// VerticalStructure names the sources' distribution about the Galactic plane.
+type VerticalStructure string
+
+// The vertical structures.
+const (
+	// VerticalGaussian puts the sources in a layer of Gaussian profile about the
+	// mid-plane, with parameters scale_height and z_sun.
+	VerticalGaussian VerticalStructure = "gaussian"
+	// VerticalNone keeps every source in the plane: latitudes enter only
+	// through the projection d cos b, and there are no height parameters.
+	VerticalNone VerticalStructure = "none"
+)
+
 // Config is one fit, with every default filled in. Load and Parse return it
 // validated; a Config changed in code should be checked with Validate.
 type Config struct {
@@ -62,7 +75,31 @@ type Config struct {
 	Arms       []Arm
 	Membership Membership
 	Likelihood Likelihood
-	Sampler    Sampler
+	// Selection is the survey's selection function; the zero value selects
+	// everything.
+	Selection Selection
+	Sampler   Sampler
+}
+
+// Selection describes which sources a survey could have found: a band of
+// declination, longitudes left out and a completeness falling with distance.
+// Each term is optional; they combine as a product.
+type Selection struct {
+	// Declination [lower, upper] (deg, ICRS) is the band the survey sees; nil
+	// for no band.
+	Declination []float64
+	// ExcludeLongitude are ranges [from, to] of Galactic longitude (deg) left
+	// out; from > to wraps through 0.
+	ExcludeLongitude [][2]float64
+	// HalfDistance (kpc) is where the completeness falls to one half and
+	// Softness (kpc) the distance over which it falls; HalfDistance 0: no
+	// distance term.
+	HalfDistance, Softness float64
+}
+
+// Active reports whether any term of the selection is set.
+func (s Selection) Active() bool {
+	return s.Declination != nil || len(s.ExcludeLongitude) > 0 || s.HalfDistance != 0
 }
 
 // Param is a named parameter (or derived quantity) with its prior.
@@ -137,6 +174,9 @@ type Likelihood struct {
 	StudentDOF float64
 	// DistancePrior is the prior on distances; default DistanceGalaxy.
 	DistancePrior DistancePrior
+	// Vertical is the sources' distribution about the plane; default
+	// VerticalGaussian.
+	Vertical VerticalStructure
 	// DistanceRange [d_min, d_max] (kpc) of the distance integral. Default
 	// [0.05, 30].
 	DistanceRange [2]float64
@@ -246,6 +286,10 @@ func DefaultPrior(name string) prior.Prior {
 	case param.SigmaVir:
 		return prior.Uniform{Min: 0, Max: 40}
 	case param.WidthSlope:
+		return prior.Fixed{Value: 0}
+	case param.ScaleHeight:
+		return prior.LogUniform{Min: 0.005, Max: 0.3}
+	case param.ZSun:
 		return prior.Fixed{Value: 0}
 	}
 	if param.IsNodeName(name) {

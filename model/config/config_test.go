@@ -153,10 +153,13 @@ func TestDefaults(t *testing.T) {
 		l.StudentDOF != 4 || l.PilotStart != nil || l.PilotSpread != nil {
 		t.Errorf("likelihood defaults %+v", l)
 	}
-	// D = 10 free globals + Vireo's radius, pitch and width + 1 fraction real
-	// = 14; walkers max(2·14 + 2, 32) = 32.
-	if c.Dim() != 14 {
-		t.Errorf("Dim = %d, want 14", c.Dim())
+	if l.Vertical != VerticalGaussian || !c.HasLayer() || c.Selection.Active() {
+		t.Errorf("vertical %q, selection %+v: want the Gaussian layer and no selection", l.Vertical, c.Selection)
+	}
+	// D = 11 free globals (scale_height among them) + Vireo's radius, pitch and
+	// width + 1 fraction real = 15; walkers max(2·15 + 2, 32) = 32.
+	if c.Dim() != 15 {
+		t.Errorf("Dim = %d, want 15", c.Dim())
 	}
 	s := c.Sampler
 	if s != (Sampler{Walkers: 32, Steps: 0, MaxSteps: 20000, Burn: 0, Seed: 1, Threads: 0, CheckpointEvery: 200,
@@ -168,6 +171,7 @@ func TestDefaults(t *testing.T) {
 		"Usun": "uniform(-10, 30)", "Vsun": "uniform(-20, 40)", "Wsun": "uniform(-5, 20)",
 		"Us": "uniform(-30, 30)", "Vs": "uniform(-30, 30)", "Ws": "uniform(-30, 30)",
 		"sigma_vir": "uniform(0, 40)", "width_slope": "fixed(0)", "Vireo_width": "loguniform(0.05, 1.5)",
+		"scale_height": "loguniform(0.005, 0.3)", "z_sun": "fixed(0)",
 	}
 	for name, expr := range want {
 		p, ok := c.Param(name)
@@ -175,10 +179,10 @@ func TestDefaults(t *testing.T) {
 			t.Errorf("default prior of %s = %v, want %s", name, p, expr)
 		}
 	}
-	if a := load(t, "power.toml"); a.Sampler.Walkers != 40 {
-		// D = 11 globals (width_slope free) + Lantern 2 + Halcyon_2 4 + 2
-		// fraction reals = 19; walkers 2·19 + 2 = 40.
-		t.Errorf("power: default walkers %d, want 40 (Dim %d)", a.Sampler.Walkers, a.Dim())
+	if a := load(t, "power.toml"); a.Sampler.Walkers != 42 {
+		// D = 12 globals (width_slope and scale_height free) + Lantern 2 +
+		// Halcyon_2 4 + 2 fraction reals = 20; walkers 2·20 + 2 = 42.
+		t.Errorf("power: default walkers %d, want 42 (Dim %d)", a.Sampler.Walkers, a.Dim())
 	}
 	if d := load(t, "demo.toml"); d.Sampler.Burn != 1000 {
 		t.Errorf("demo: burn %d", d.Sampler.Burn)
@@ -198,7 +202,7 @@ func TestDefaults(t *testing.T) {
 func TestParamNames(t *testing.T) {
 	demo := load(t, "demo.toml")
 	want := []string{"R0", "Theta0", "dTheta_dR", "Usun", "Vsun", "Wsun", "Us", "Vs", "Ws", "sigma_vir", "width_slope",
-		"Corvid_Rref", "Corvid_pitch", "Corvid_pitch2", "Corvid_kink", "Corvid_width",
+		"scale_height", "z_sun", "Corvid_Rref", "Corvid_pitch", "Corvid_pitch2", "Corvid_kink", "Corvid_width",
 		"Lantern_Rref", "Lantern_pitch", "Lantern_width",
 		"Tamarisk_Rref", "Tamarisk_pitch", "Tamarisk_width",
 		"Halcyon_Rref", "Halcyon_pitch", "Halcyon_width"}
@@ -215,14 +219,14 @@ func TestParamNames(t *testing.T) {
 	if d := demo.Fractions(); d != (prior.Dirichlet{N: 5, Alpha: 1}) {
 		t.Errorf("Fractions %+v", d)
 	}
-	// 10 free globals + 5 + 3 + 3 + 3 arm parameters + 4 fraction reals.
-	if demo.Dim() != 28 {
-		t.Errorf("demo Dim = %d, want 28", demo.Dim())
+	// 11 free globals + 5 + 3 + 3 + 3 arm parameters + 4 fraction reals.
+	if demo.Dim() != 29 {
+		t.Errorf("demo Dim = %d, want 29", demo.Dim())
 	}
 
 	nodes := load(t, "nodes.toml")
 	want = []string{"R0", "Theta_1", "Theta_2", "Theta_3", "Theta_4", "Theta_5", "Theta_6",
-		"Usun", "Vsun", "Wsun", "Us", "Vs", "Ws", "sigma_vir", "width_slope",
+		"Usun", "Vsun", "Wsun", "Us", "Vs", "Ws", "sigma_vir", "width_slope", "scale_height", "z_sun",
 		"Tamarisk_Rref", "Tamarisk_pitch", "Tamarisk_width"}
 	if got := nodes.ParamNames(); !reflect.DeepEqual(got, want) {
 		t.Errorf("nodes ParamNames\n got %v\nwant %v", got, want)

@@ -57,6 +57,12 @@ TOP LEVEL
     Us, Vs, Ws  km/s       uniform(-30, 30)     mean motion of the sources
     sigma_vir   km/s       uniform(0, 40)       scatter of each source
     width_slope kpc/kpc    fixed(0)             growth of arm widths with R
+    scale_height           kpc, loguniform(0.005, 0.3): scale height of
+                           the sources' Gaussian layer about the mid-plane
+    z_sun                  kpc, fixed(0): the Sun's height above that
+                           mid-plane
+  scale_height and z_sun exist only with vertical = "gaussian" under
+  [likelihood] and distance_prior = "galaxy".
   Theta0, Vsun and Vs are nearly degenerate under flat priors: a prior on Vs,
   or on Omega_sun under [derived_priors], settles them.
 
@@ -103,6 +109,16 @@ TOP LEVEL
                     in distance over distance_range, for fits of the
                     rotation alone, with every arm parameter fixed.
                     Default "galaxy".
+  vertical          "gaussian": the sources lie in a layer about the
+                    Galactic plane, Gaussian in height z = d sin b + z_sun
+                    with scale height scale_height, so a source's latitude
+                    bounds its distance (a source at |b| = 1° cannot lie
+                    much beyond a few scale heights / sin 1°);
+                    "none": every source in the plane, latitudes used only
+                    in the projection d cos b, no height parameters (for
+                    catalogs without reliable latitudes, and to compare).
+                    Applies with distance_prior = "galaxy". Default
+                    "gaussian".
   distance_range    [d_min, d_max], kpc, of the distance integral.
                     Default [0.05, 30].
   tolerance         accuracy of each source's distance integral, in ln L.
@@ -118,6 +134,23 @@ TOP LEVEL
   pilot_spread      expected posterior spreads (standard deviations) by
                     parameter name, for the pilot draws around the best
                     point. Default: each prior's standard deviation.
+
+[selection]  (optional; without it the survey is taken to see everything)
+  Which sources the survey could have found, known and not fitted. Each
+  key is optional; the terms multiply. The model divides each source's
+  density by the share of the Galaxy the survey sees, so the fractions are
+  the Galaxy's, not the catalog's. Needs distance_prior = "galaxy". Every
+  catalog source must lie where the selection sees: one outside is an error.
+  A cut on measured quantities (say on parallax / its error) is a different
+  matter and is not supported.
+  declination       [lower, upper], deg, ICRS: the band of declination the
+                    survey sees.
+  exclude_longitude [[from, to], ...], deg, Galactic longitude: ranges left
+                    out; from > to wraps through 0 ([350, 10] leaves out
+                    the 20° about l = 0).
+  completeness      { half_distance = D, softness = s }, kpc: the share of
+                    sources found falls with distance d as
+                    1 / (1 + exp((d − D) / s)), one half at D.
 
 [sampler]
   walkers           even, at least 2·D + 2 for D sampled dimensions (the
@@ -252,6 +285,7 @@ arm_end_softening = 3.0          # deg
 error_model = "gaussian"         # gaussian | tolerant | student
 student_dof = 4.0                # student only
 distance_prior = "galaxy"        # galaxy | parallax
+vertical = "gaussian"            # gaussian | none
 distance_range = [0.05, 30]      # kpc
 tolerance = 1e-4                 # ln L per source
 inner_radius = 4.0               # kpc
@@ -260,6 +294,11 @@ bar_dispersion = 40.0            # km/s
 bar_softening = 0.5              # kpc
 pilot_start = { R0 = 8.25 }
 pilot_spread = { R0 = 0.3, Theta0 = 8.0 }
+
+# [selection]                                # optional, none by default
+# declination = [-30, 90]                    # deg, ICRS
+# exclude_longitude = [[350, 10]]            # deg, may wrap through 0
+# completeness = { half_distance = 12.0, softness = 1.5 }   # kpc
 
 [sampler]
 walkers = 64

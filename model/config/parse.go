@@ -31,7 +31,19 @@ type fileConfig struct {
 	Arms          []fileArm       `toml:"arm"`
 	Membership    *fileMembership `toml:"membership"`
 	Likelihood    *fileLikelihood `toml:"likelihood"`
+	Selection     *fileSelection  `toml:"selection"`
 	Sampler       *fileSampler    `toml:"sampler"`
+}
+
+type fileSelection struct {
+	Declination      []float64         `toml:"declination"`
+	ExcludeLongitude [][]float64       `toml:"exclude_longitude"`
+	Completeness     *fileCompleteness `toml:"completeness"`
+}
+
+type fileCompleteness struct {
+	HalfDistance *float64 `toml:"half_distance"`
+	Softness     *float64 `toml:"softness"`
 }
 
 type fileRotation struct {
@@ -62,6 +74,7 @@ type fileLikelihood struct {
 	ErrorModel    *string            `toml:"error_model"`
 	StudentDOF    *float64           `toml:"student_dof"`
 	DistancePrior *string            `toml:"distance_prior"`
+	Vertical      *string            `toml:"vertical"`
 	DistanceRange []float64          `toml:"distance_range"`
 	Tolerance     *float64           `toml:"tolerance"`
 	InnerRadius   *float64           `toml:"inner_radius"`
@@ -222,8 +235,21 @@ func (d *fileConfig) fill(c *Config, ps *problems) {
 		}
 	}
 
+	// The parameters depend on the distance prior and the vertical structure.
+	c.Likelihood.DistancePrior, c.Likelihood.Vertical = DistanceGalaxy, VerticalGaussian
+	if l := d.Likelihood; l != nil && l.DistancePrior != nil {
+		if v, ok := choose(ps, "likelihood.distance_prior", *l.DistancePrior, DistanceGalaxy, DistanceParallax); ok {
+			c.Likelihood.DistancePrior = v
+		}
+	}
+	if l := d.Likelihood; l != nil && l.Vertical != nil {
+		if v, ok := choose(ps, "likelihood.vertical", *l.Vertical, VerticalGaussian, VerticalNone); ok {
+			c.Likelihood.Vertical = v
+		}
+	}
 	d.fillArms(c, ps)
 	d.fillParams(c, ps)
+	d.fillSelection(c, ps)
 
 	m := d.Membership
 	if m == nil {
@@ -242,7 +268,8 @@ func (d *fileConfig) fill(c *Config, ps *problems) {
 	c.Likelihood = Likelihood{
 		Errors:        model.ErrorsGaussian,
 		StudentDOF:    orFloat(l.StudentDOF, DefaultStudentDOF),
-		DistancePrior: DistanceGalaxy,
+		DistancePrior: c.Likelihood.DistancePrior,
+		Vertical:      c.Likelihood.Vertical,
 		DistanceRange: [2]float64{DefaultDistanceMin, DefaultDistanceMax},
 		Tolerance:     orFloat(l.Tolerance, DefaultTolerance),
 		InnerRadius:   orFloat(l.InnerRadius, DefaultInnerRadius),
@@ -254,11 +281,6 @@ func (d *fileConfig) fill(c *Config, ps *problems) {
 	if l.ErrorModel != nil {
 		if v, ok := choose(ps, "likelihood.error_model", *l.ErrorModel, model.ErrorsGaussian, model.ErrorsTolerant, model.ErrorsStudent); ok {
 			c.Likelihood.Errors = v
-		}
-	}
-	if l.DistancePrior != nil {
-		if v, ok := choose(ps, "likelihood.distance_prior", *l.DistancePrior, DistanceGalaxy, DistanceParallax); ok {
-			c.Likelihood.DistancePrior = v
 		}
 	}
 	if l.DistanceRange != nil {
@@ -312,7 +334,7 @@ func (d *fileConfig) fill(c *Config, ps *problems) {
 
 // fillParams reads the priors of the global parameters and derived quantities.
 func (d *fileConfig) fillParams(c *Config, ps *problems) {
-	names := model.GlobalNames(c.Rotation.Curve, len(c.Rotation.NodeRadii))
+	names := c.globalNames()
 	given := map[string]bool{}
 	for _, key := range sortedKeys(d.Params) {
 		if !contains(names, key) {
@@ -352,6 +374,52 @@ func (d *fileConfig) fillParams(c *Config, ps *problems) {
 	}
 }
 
+// globalNames returns the names of the global parameters of the configured
+// model (model.GlobalNames).
+func (c *Config) globalNames() []string {
+	return model.GlobalNames(c.Rotation.Curve, len(c.Rotation.NodeRadii), c.HasLayer())
+}
+
+// HasLayer reports whether the model puts the sources in a layer about the
+// plane, with parameters scale_height and z_sun: vertical = "gaussian" in the
+// galaxy distance mode. In the parallax mode distances are flat and the
+// vertical structure does not enter.
+func (c *Config) HasLayer() bool {
+	return c.Likelihood.Vertical == VerticalGaussian && c.Likelihood.DistancePrior == DistanceGalaxy
+}
+
+// fillSelection reads the [selection] table.
+func (d *fileConfig) fillSelection(c *Config, ps *problems) {
+	s := d.Selection
+	if s == nil {
+		return
+	}
+	if s.Declination != nil {
+		if len(s.Declination) != 2 {
+			ps.addf("selection.declination", "give two declinations [lower, upper] in degrees, got %d", len(s.Declination))
+		} else {
+			c.Selection.Declination = []float64{s.Declination[0], s.Declination[1]}
+		}
+	}
+	for i, r := range s.ExcludeLongitude {
+		if len(r) != 2 {
+			ps.addf("selection.exclude_longitude", "range %d: give two longitudes [from, to] in degrees, got %d", i+1, len(r))
+			continue
+		}
+		c.Selection.ExcludeLongitude = append(c.Selection.ExcludeLongitude, [2]float64{r[0], r[1]})
+	}
+	if cm := s.Completeness; cm != nil {
+		switch {
+		case cm.HalfDistance == nil:
+			ps.addf("selection.completeness.half_distance", "missing: give the distance (kpc) at which the completeness falls to one half")
+		case cm.Softness == nil:
+			ps.addf("selection.completeness.softness", "missing: give the distance (kpc) over which the completeness falls")
+		default:
+			c.Selection.HalfDistance, c.Selection.Softness = *cm.HalfDistance, *cm.Softness
+		}
+	}
+}
+
 // unknownParam explains why a key under [params] is not a parameter.
 func (c *Config) unknownParam(key string, names []string) string {
 	if c.Rotation.Curve == model.CurveNodes {
@@ -363,8 +431,11 @@ func (c *Config) unknownParam(key string, names []string) string {
 			return fmt.Sprintf("the nodes curve has %d node radii, so speeds Theta_1 … Theta_%d", n, n)
 		}
 	}
+	if info, ok := param.Lookup(key, nil); ok && info.Vertical && !c.HasLayer() {
+		return fmt.Sprintf("%s is a parameter of the sources' layer: it applies only with likelihood.vertical = %q and distance_prior = %q", key, VerticalGaussian, DistanceGalaxy)
+	}
 	for _, curve := range []model.CurveFamily{model.CurveLinear, model.CurvePower, model.CurveNodes} {
-		if curve != c.Rotation.Curve && contains(model.GlobalNames(curve, 100), key) {
+		if curve != c.Rotation.Curve && contains(model.GlobalNames(curve, 100, true), key) {
 			return fmt.Sprintf("%s belongs to another rotation curve than %q", key, c.Rotation.Curve)
 		}
 	}

@@ -88,6 +88,7 @@ func (c *Config) write(forHash bool) []byte {
 	w.str("error_model", string(l.Errors), "gaussian | tolerant | student")
 	w.num("student_dof", l.StudentDOF, "")
 	w.str("distance_prior", string(l.DistancePrior), "galaxy | parallax")
+	w.str("vertical", string(l.Vertical), "gaussian | none")
 	w.list("distance_range", l.DistanceRange[:], "kpc")
 	w.num("tolerance", l.Tolerance, "ln L per source")
 	w.num("inner_radius", l.InnerRadius, "kpc")
@@ -96,6 +97,23 @@ func (c *Config) write(forHash bool) []byte {
 	w.num("bar_softening", l.BarSoftening, "kpc")
 	w.inline("pilot_start", l.PilotStart, "")
 	w.inline("pilot_spread", l.PilotSpread, "")
+
+	if sel := c.Selection; sel.Active() {
+		w.table("selection")
+		if sel.Declination != nil {
+			w.list("declination", sel.Declination, "deg, ICRS")
+		}
+		if len(sel.ExcludeLongitude) > 0 {
+			parts := make([]string, len(sel.ExcludeLongitude))
+			for i, r := range sel.ExcludeLongitude {
+				parts[i] = "[" + formatFloat(r[0]) + ", " + formatFloat(r[1]) + "]"
+			}
+			w.line("exclude_longitude", "["+strings.Join(parts, ", ")+"]", "deg, Galactic")
+		}
+		if sel.HalfDistance != 0 {
+			w.line("completeness", fmt.Sprintf("{ half_distance = %s, softness = %s }", formatFloat(sel.HalfDistance), formatFloat(sel.Softness)), "kpc")
+		}
+	}
 
 	s := c.Sampler
 	w.table("sampler")

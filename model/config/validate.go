@@ -37,7 +37,32 @@ func (c *Config) validate(ps *problems) {
 	c.validateNames(ps)
 	c.validateMembership(ps)
 	c.validateLikelihood(ps)
+	c.validateSelection(ps)
 	c.validateSampler(ps)
+}
+
+func (c *Config) validateSelection(ps *problems) {
+	s := c.Selection
+	if !s.Active() {
+		return
+	}
+	if c.Likelihood.DistancePrior == DistanceParallax {
+		ps.addf("selection", "a survey selection applies only with distance_prior = \"galaxy\": with \"parallax\" the distances are not drawn from the model galaxy, so there is no selected share of it to divide by")
+	}
+	if d := s.Declination; d != nil {
+		if len(d) != 2 || !finite(d[0]) || !finite(d[1]) || !(d[0] >= -90 && d[0] < d[1] && d[1] <= 90) {
+			ps.addf("selection.declination", "%v deg: need -90 ≤ lower < upper ≤ 90", d)
+		}
+	}
+	for i, r := range s.ExcludeLongitude {
+		if !finite(r[0]) || !finite(r[1]) || r[0] < 0 || r[0] > 360 || r[1] < 0 || r[1] > 360 || r[0] == r[1] {
+			ps.addf("selection.exclude_longitude", "range %d, [%g, %g] deg: need two different longitudes in [0, 360] (from > to wraps through 0)", i+1, r[0], r[1])
+		}
+	}
+	if s.HalfDistance != 0 || s.Softness != 0 {
+		positive(ps, "selection.completeness.half_distance", s.HalfDistance, "kpc")
+		positive(ps, "selection.completeness.softness", s.Softness, "kpc")
+	}
 }
 
 func (c *Config) validatePaths(ps *problems) {
@@ -105,7 +130,7 @@ func (c *Config) validateRotation(ps *problems) {
 }
 
 func (c *Config) validateParams(ps *problems) {
-	names := model.GlobalNames(c.Rotation.Curve, len(c.Rotation.NodeRadii))
+	names := c.globalNames()
 	if len(c.Params) != len(names) {
 		ps.addf("params", "expected the %d parameters %s, got %d", len(names), strings.Join(names, ", "), len(c.Params))
 	}
@@ -123,6 +148,8 @@ func (c *Config) validateParams(ps *problems) {
 			mostly(ps, key, p.Prior, 0, math.Inf(1), "positive")
 		case p.Name == param.SigmaVir || param.IsNodeName(p.Name):
 			mostly(ps, key, p.Prior, 0, math.Inf(1), "non-negative")
+		case p.Name == param.ScaleHeight:
+			mostly(ps, key, p.Prior, 0, math.Inf(1), "positive (kpc)")
 		}
 	}
 	allowed := c.DerivedNames()
@@ -232,7 +259,7 @@ func (c *Config) validateNames(ps *problems) {
 			owner[n] = key
 		}
 	}
-	claim("params", model.GlobalNames(c.Rotation.Curve, len(c.Rotation.NodeRadii))...)
+	claim("params", c.globalNames()...)
 	claim("params", param.FieldFraction)
 	claim("params", param.DerivedNames(c.Rotation.Curve == model.CurveNodes, nil)...)
 	for i, a := range c.Arms {
@@ -265,6 +292,12 @@ func (c *Config) validateLikelihood(ps *problems) {
 	case DistanceGalaxy, DistanceParallax:
 	default:
 		ps.addf("likelihood.distance_prior", "%q is not one of \"galaxy\", \"parallax\"", l.DistancePrior)
+	}
+	switch l.Vertical {
+	case VerticalGaussian, VerticalNone:
+	default:
+		ps.addf("likelihood.vertical", "%q is not one of \"gaussian\", \"none\"%s", l.Vertical,
+			didYouMean(string(l.Vertical), []string{string(VerticalGaussian), string(VerticalNone)}))
 	}
 	if d := l.DistanceRange; !finite(d[0]) || !finite(d[1]) || !(d[0] > 0) || !(d[0] < d[1]) {
 		ps.addf("likelihood.distance_range", "[%g, %g] kpc: need 0 < d_min < d_max, both finite", d[0], d[1])

@@ -75,6 +75,9 @@ name = "Tamarisk"
 azimuth_range = [-60, 110]
 radius = "uniform(8.5, 10.5)"
 ` + tamarisk + `width = "loguniform(0.05, 1)"
+
+[likelihood]
+vertical = "none"
 ` + sampler
 }
 

@@ -12,7 +12,8 @@ import (
 
 // SpecFromConfig returns the fixed part of the model a configuration describes: the
 // rotation curve's settings, the arms' names and azimuths, the field, the distance range,
-// the error model and the quadrature tolerance.
+// the error model, the quadrature tolerance, the vertical structure and the survey's
+// selection.
 func SpecFromConfig(c *config.Config) (*model.Spec, error) {
 	const deg = math.Pi / 180
 	s := &model.Spec{
@@ -28,7 +29,16 @@ func SpecFromConfig(c *config.Config) (*model.Spec, error) {
 		DMax:          c.Likelihood.DistanceRange[1],
 		Galaxy:        c.Likelihood.DistancePrior == config.DistanceGalaxy,
 		Tol:           c.Likelihood.Tolerance,
+		Vertical:      c.HasLayer(),
 	}
+	sel := c.Selection
+	if len(sel.Declination) == 2 {
+		s.Selection.DecMin, s.Selection.DecMax = sel.Declination[0]*deg, sel.Declination[1]*deg
+	}
+	for _, r := range sel.ExcludeLongitude {
+		s.Selection.ExcludeL = append(s.Selection.ExcludeL, [2]float64{r[0] * deg, r[1] * deg})
+	}
+	s.Selection.HalfDistance, s.Selection.Softness = sel.HalfDistance, sel.Softness
 	em, err := model.NewErrorModel(c.Likelihood.Errors, c.Likelihood.StudentDOF)
 	if err != nil {
 		return nil, err

@@ -284,7 +284,7 @@ func TestRecovery(t *testing.T) {
 // TestExcludeInner: with exclude_inner, the sources whose distance lies mostly inside
 // R_inner at the first MAP point leave the likelihood, and the rest stay.
 func TestExcludeInner(t *testing.T) {
-	path, _ := setUp(t, 40, "\n[likelihood]\ninner_radius = 6\nexclude_inner = true\n\n[sampler]\nwalkers = 40\nsteps = 10\n")
+	path, _ := setUp(t, 40, "\ninner_radius = 6\nexclude_inner = true\n\n[sampler]\nwalkers = 40\nsteps = 10\n")
 	cfg := load(t, path)
 	cat, err := catalog.ReadFile(cfg.Catalog)
 	if err != nil {

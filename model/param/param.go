@@ -25,6 +25,9 @@ const (
 	Ws         = "Ws"          // km/s, the sources' mean peculiar motion toward the north pole
 	SigmaVir   = "sigma_vir"   // km/s, the sources' velocity dispersion
 	WidthSlope = "width_slope" // kpc/kpc, growth of the arms' widths with radius
+	// ScaleHeight and ZSun are parameters only of a model with vertical structure.
+	ScaleHeight = "scale_height" // kpc, Gaussian scale height of the sources' layer
+	ZSun        = "z_sun"        // kpc, the Sun's height above the layer's mid-plane
 )
 
 // Names of the derived quantities (besides Theta0 of a nodes curve and NAME_Rsun).

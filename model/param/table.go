@@ -60,6 +60,9 @@ type Entry struct {
 	Kind Kind
 	// Description says what the parameter is, in a line.
 	Description string
+	// Vertical marks the parameters of the sources' vertical layer, which a model has only
+	// when it has vertical structure.
+	Vertical bool
 
 	form form
 	key  string // the name, the suffix of an arm's parameter, or "" for a fraction
@@ -84,6 +87,8 @@ var table = []Entry{
 	{Name: Ws, Unit: "km/s", Kind: Global, Description: "the sources' mean peculiar motion toward the north pole"},
 	{Name: SigmaVir, Unit: "km/s", Kind: Global, Description: "the sources' velocity scatter about that mean"},
 	{Name: WidthSlope, Unit: "kpc/kpc", Kind: Global, Description: "growth of the arms' widths with radius"},
+	{Name: ScaleHeight, Unit: "kpc", Kind: Global, Description: "scale height of the sources' Gaussian layer", Vertical: true},
+	{Name: ZSun, Unit: "kpc", Kind: Global, Description: "the Sun's height above the layer's mid-plane", Vertical: true},
 	{Name: "NAME" + SuffixRref, Unit: "kpc", Kind: Arm, Description: "radius of arm NAME at its reference azimuth", form: perArm, key: SuffixRref},
 	{Name: "NAME" + SuffixPitch, Unit: "deg", Kind: Arm, Description: "its pitch angle (below the kink, for a kinked arm)", form: perArm, key: SuffixPitch},
 	{Name: "NAME" + SuffixPitch2, Unit: "deg", Kind: Arm, Description: "its pitch angle beyond the kink", form: perArm, key: SuffixPitch2},
