@@ -262,7 +262,7 @@ func claimLocked(dir string, cfg *config.Config, catHash string, refineUntil int
 			}
 			return true, nil, writeConfig(dir, cfg)
 		case opts.Force:
-			if err := os.RemoveAll(dir); err != nil {
+			if err := discardDir(dir); err != nil {
 				return false, nil, err
 			}
 		case m.State == StateFinished:
@@ -313,6 +313,32 @@ func claimLocked(dir string, cfg *config.Config, catHash string, refineUntil int
 		return false, nil, fmt.Errorf("creating run directory %s: %w", dir, err)
 	}
 	return false, l, nil
+}
+
+// discardDir removes the run directory dir for --force in two steps: one rename moves it
+// into a hidden temporary folder beside it, and that folder is then deleted. A fit killed
+// meanwhile leaves either the whole old run under dir or nothing there, never a half-deleted
+// run that can be neither resumed nor replaced; what a killed deletion left behind is
+// deleted the next time.
+func discardDir(dir string) error {
+	parent, base := filepath.Dir(dir), filepath.Base(dir)
+	if left, _ := filepath.Glob(filepath.Join(parent, "."+base+".old-*")); len(left) > 0 {
+		for _, p := range left {
+			os.RemoveAll(p)
+		}
+	}
+	trash, err := os.MkdirTemp(parent, "."+base+".old-*")
+	if err != nil {
+		return fmt.Errorf("replacing run directory %s: %w", dir, err)
+	}
+	if err := os.Rename(dir, filepath.Join(trash, base)); err != nil {
+		os.Remove(trash)
+		return fmt.Errorf("replacing run directory %s: %w", dir, err)
+	}
+	if err := atomicfile.SyncDir(parent); err != nil {
+		return err
+	}
+	return os.RemoveAll(trash)
 }
 
 func writeConfig(dir string, cfg *config.Config) error {
