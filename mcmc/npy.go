@@ -238,8 +238,20 @@ func reopenChainFile(path string, names []string, walkers int, size int64, crc u
 		return fail(fmt.Errorf("does not match its checkpoint (CRC-32C of the %d bytes of rows differs): the file was changed or corrupted", size-h.size))
 	}
 	if info.Size() > size {
-		if err := f.Truncate(size); err != nil {
+		// The kept rows go to a new file that replaces the old one, rather than cutting the
+		// old one back in place: a reader that has the old file memory-mapped (report or
+		// plot run while the fit resumes) keeps a whole file instead of faulting on pages
+		// that vanished.
+		err := atomicfile.WriteWith(path, func(w io.Writer) error {
+			_, err := io.Copy(w, io.NewSectionReader(f, 0, size))
+			return err
+		})
+		if err != nil {
 			return fail(fmt.Errorf("cutting back to %d bytes: %w", size, err))
+		}
+		f.Close()
+		if f, err = os.OpenFile(path, os.O_RDWR, 0); err != nil {
+			return nil, fmt.Errorf("resuming: opening chain file: %w", err)
 		}
 	}
 	if _, err := f.Seek(size, io.SeekStart); err != nil {

@@ -396,8 +396,22 @@ func TestChainFileCutBackOnResume(t *testing.T) {
 		t.Errorf("reading the chain file after the crash: %v; want the 20 checkpointed rows", err)
 	}
 	damaged := readFile(t, s.ChainPath)
+	// A reader (report, plot) has the crashed file memory-mapped while the fit resumes.
+	mapped, err := OpenChain(s.ChainPath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer mapped.Close()
+	before, _ := os.Stat(s.ChainPath)
 	s.OnCheckpoint, s.Resume = nil, true
 	mustRun(t, Problem{clipped, 2}, Start{}, s)
+	// The cut goes to a new file: the reader's old one keeps every page it mapped.
+	if after, _ := os.Stat(s.ChainPath); os.SameFile(before, after) {
+		t.Error("the chain file was cut back in place: a reader's memory map of it loses pages")
+	}
+	if got := mapped.LogDensity(mapped.Len()-1, 1); got != chainOf(t, damaged).LogDensity(19, 1) {
+		t.Errorf("the old mapping reads %v in its last row, want the crashed file's value", got)
+	}
 	if !bytes.Equal(readFile(t, s.ChainPath), ref) {
 		t.Error("chain resumed after a crash differs from the uninterrupted one")
 	}

@@ -61,7 +61,8 @@ type Settings struct {
 	Walkers int
 	// Seed determines every random draw of the run. Zero is a valid seed.
 	Seed uint64
-	// Threads is the number of goroutines evaluating proposals at once.
+	// Threads is the number of workers of the shared worker pool (internal/workpool) that
+	// evaluate proposals at once.
 	// Zero means runtime.GOMAXPROCS(0). The chain does not depend on it.
 	Threads int
 	// Moves is the mixture of moves; the move of each step is drawn with

@@ -119,18 +119,24 @@ func (s *Source) DistanceRange(spec *Spec) (lo, hi float64, contradicts bool) {
 }
 
 // logBase returns the terms of the log-integrand that do not depend on the parameters, at
-// distance d (kpc): ln N(ϖ; 1/d, σϖ) plus, in the galaxy mode, the volume element in
-// u = ln d and the selection's completeness ln S(d): 3 ln d + ln cos b with vertical
-// structure (d³ cos b), 2 ln(d cos b) without (the Jacobian of the in-plane density); in
-// the parallax mode, ln d − ln(DMax − DMin), a prior uniform in d written in u.
+// distance d (kpc): ln N(ϖ; 1/d, σϖ) plus logVolume.
 func (s *Source) logBase(spec *Spec, d float64) float64 {
 	z := (s.Plx - 1/d) / s.PlxErr
-	v := -0.5*z*z - math.Log(s.PlxErr) - halfLog2Pi
+	return -0.5*z*z - math.Log(s.PlxErr) - halfLog2Pi + s.logVolume(spec, d)
+}
+
+// logVolume returns the spatial terms of the log-integrand that do not depend on the
+// parameters, at distance d (kpc): in the galaxy mode the volume element in u = ln d and
+// the selection's completeness ln S(d): 3 ln d + ln cos b with vertical structure
+// (d³ cos b), 2 ln(d cos b) without (the Jacobian of the in-plane density); in the parallax
+// mode, ln d − ln(DMax − DMin), a prior uniform in d written in u.
+func (s *Source) logVolume(spec *Spec, d float64) float64 {
 	if !spec.Galaxy {
-		return v + math.Log(d) - math.Log(spec.DMax-spec.DMin)
+		return math.Log(d) - math.Log(spec.DMax-spec.DMin)
 	}
+	var v float64
 	if spec.Selection.HalfDistance != 0 {
-		v += spec.Selection.LogCompleteness(d)
+		v = spec.Selection.LogCompleteness(d)
 	}
 	if spec.Vertical {
 		return v + 3*math.Log(d) + math.Log(s.Sight.CosB)
@@ -156,8 +162,7 @@ func (s *Source) logLayer(spec *Spec, p *Params, d float64) float64 {
 // component alone when it has one); in the parallax mode ln [d / (DMax − DMin)]. Its
 // integral over u is not normalised by the selected share Σ_m f_m Z_m.
 func (s *Source) LogSpatialPrior(spec *Spec, p *Params, d float64) float64 {
-	z := (s.Plx - 1/d) / s.PlxErr
-	v := s.logBase(spec, d) - (-0.5*z*z - math.Log(s.PlxErr) - halfLog2Pi)
+	v := s.logVolume(spec, d)
 	if !spec.Galaxy {
 		return v
 	}

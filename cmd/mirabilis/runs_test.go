@@ -3,6 +3,7 @@ package main
 import (
 	"encoding/json"
 	"image/png"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -68,8 +69,11 @@ func TestCommandsOnARun(t *testing.T) {
 	if err := json.Unmarshal([]byte(stdout), &two); err != nil {
 		t.Fatal(err)
 	}
-	if m2 := two["parameters"].(map[string]any)["R0"].(map[string]any)["median"]; m2 != r0["median"] {
-		t.Errorf("R0 median merged with itself %v, alone %v", m2, r0["median"])
+	// A duplicated sample has the same quantiles, to rounding of the interpolation weights
+	// (as in package fit's TestReportMergesRuns).
+	m1 := r0["median"].(float64)
+	if m2 := two["parameters"].(map[string]any)["R0"].(map[string]any)["median"].(float64); math.Abs(m2-m1) > 1e-12*math.Max(1, math.Abs(m1)) {
+		t.Errorf("R0 median merged with itself %v, alone %v", m2, m1)
 	}
 	if code, stdout, _ = runCLI(t, "report", runDir, "--format", "csv"); code != 0 || !strings.HasPrefix(stdout, "name,label,best") {
 		t.Errorf("report --format csv: exit %d, %.80q", code, stdout)

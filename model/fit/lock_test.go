@@ -62,3 +62,35 @@ func TestLockDir(t *testing.T) {
 		t.Errorf("lock of another host: %v, want a refusal saying how to break it", err)
 	}
 }
+
+// TestDiscardDir checks --force's removal of a run directory: the run is moved aside in
+// one rename and deleted, and the remains of a deletion killed earlier (a hidden .old-
+// folder) go too, while other files beside the run are left alone.
+func TestDiscardDir(t *testing.T) {
+	parent := t.TempDir()
+	dir := filepath.Join(parent, "run")
+	for _, p := range []string{dir, filepath.Join(dir, "sub"), filepath.Join(parent, ".run.old-12345", "run")} {
+		if err := os.MkdirAll(p, 0o755); err != nil {
+			t.Fatal(err)
+		}
+	}
+	for _, p := range []string{filepath.Join(dir, "chain.npy"), filepath.Join(dir, "sub", "x"), filepath.Join(parent, "notes.txt")} {
+		if err := os.WriteFile(p, []byte("x"), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if err := discardDir(dir); err != nil {
+		t.Fatal(err)
+	}
+	entries, err := os.ReadDir(parent)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var names []string
+	for _, e := range entries {
+		names = append(names, e.Name())
+	}
+	if len(names) != 1 || names[0] != "notes.txt" {
+		t.Errorf("after discarding, the parent holds %v, want only notes.txt", names)
+	}
+}

@@ -65,6 +65,11 @@ type ReportSource struct {
 	// KinematicConflict says that no kinematic distance lies within 3σ of the distance the
 	// parallax gives (see kinematicAgrees).
 	KinematicConflict bool `json:"kinematic_conflict"`
+	// Height is z = d sin b + z⊙ (kpc), the source's height above the mid-plane of the
+	// sources' layer at its median distance under the posterior median model; NaN for a
+	// model without vertical structure. A source with |z| above OffPlaneHeights scale
+	// heights is flagged "off-plane".
+	Height float64 `json:"z"`
 
 	res SourceResult
 }
@@ -93,6 +98,23 @@ type Report struct {
 	ParamOrder   []string `json:"-"`
 	DerivedOrder []string `json:"-"`
 	components   []string
+}
+
+// OffPlaneHeights is the height, in scale heights of the sources' layer, beyond which a
+// source is flagged "off-plane": a Gaussian layer puts 0.27% of its sources there, so a
+// catalog with many is telling of a layer that is not a thin Gaussian about b = 0 (a warp
+// or a flaring layer in the outer Galaxy), which pulls such sources toward the Sun.
+const OffPlaneHeights = 3
+
+// layerHeight returns the height z = d sin b + z⊙ (kpc) of source s at distance d (kpc)
+// under p, and whether |z| exceeds OffPlaneHeights scale heights; NaN and false for a spec
+// without vertical structure.
+func layerHeight(spec *model.Spec, p *model.Params, s *model.Source, d float64) (float64, bool) {
+	if !spec.Vertical || !spec.Galaxy {
+		return math.NaN(), false
+	}
+	z := d*s.Sight.SinB + p.ZSun
+	return z, math.Abs(z) > OffPlaneHeights*p.ScaleHeight
 }
 
 // MinTauLengths is the chain length, in autocorrelation times, below which a report
@@ -168,16 +190,21 @@ func NewReport(runs []*Run, burn int) (*Report, error) {
 	if err != nil {
 		return nil, err
 	}
-	dMax := runs[0].Job.Spec.DMax
+	spec := runs[0].Job.Spec
+	dMax := spec.DMax
 	for i, s := range sum.Sources {
 		rs := ReportSource{Name: s.Name, Label: s.Label, Best: s.Best, Membership: map[string]float64{},
 			Distance: Interval{Median: s.Distance, P16: s.DistanceLo, P84: s.DistanceHi}, R: s.R, Beta: s.Beta, InnerProb: s.InnerProb,
 			U: s.U, USD: s.USD, V: s.V, VSD: s.VSD, W: s.W, WSD: s.WSD, Flags: append([]string{}, s.Flags...),
-			KinematicNear: math.NaN(), KinematicFar: math.NaN(), res: s}
+			KinematicNear: math.NaN(), KinematicFar: math.NaN(), Height: math.NaN(), res: s}
 		for m, c := range sum.Components {
 			rs.Membership[c] = s.Membership[m]
 		}
 		src := &runs[0].Job.Like.Sources[i]
+		var off bool
+		if rs.Height, off = layerHeight(spec, median, src, s.Distance); off {
+			rs.Flags = append(rs.Flags, "off-plane")
+		}
 		if src.HasV {
 			v := src.V
 			if !src.VLSR {
@@ -273,19 +300,38 @@ func (r *Report) Text() string {
 	}
 	table("Parameters", r.ParamOrder, r.Parameters)
 	table("Derived quantities", r.DerivedOrder, r.Derived)
-	fmt.Fprintln(&b, "\nSources (distances in kpc; kinematic distances from v_LSR under the median model)")
+	layer := r.hasHeights()
+	if layer {
+		fmt.Fprintln(&b, "\nSources (distances and heights z in kpc; z at the median distance; kinematic distances from v_LSR under the median model)")
+	} else {
+		fmt.Fprintln(&b, "\nSources (distances in kpc; kinematic distances from v_LSR under the median model)")
+	}
 	tw := tabwriter.NewWriter(&b, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "name\tbest\tP(best)\tdistance\t68% interval\tnear\tfar\tflags\t")
+	zHead := ""
+	if layer {
+		zHead = "z\t"
+	}
+	fmt.Fprintln(tw, "name\tbest\tP(best)\tdistance\t68% interval\t"+zHead+"near\tfar\tflags\t")
 	for _, s := range r.Sources {
-		fmt.Fprintf(tw, "%s\t%s\t%.3f\t%s\t[%s, %s]\t%s\t%s\t%s\t\n", s.Name, s.Best, s.Membership[s.Best], num(s.Distance.Median),
-			num(s.Distance.P16), num(s.Distance.P84), num(s.KinematicNear), num(s.KinematicFar), strings.Join(s.Flags, ";"))
+		z := ""
+		if layer {
+			z = num(s.Height) + "\t"
+		}
+		fmt.Fprintf(tw, "%s\t%s\t%.3f\t%s\t[%s, %s]\t%s%s\t%s\t%s\t\n", s.Name, s.Best, s.Membership[s.Best], num(s.Distance.Median),
+			num(s.Distance.P16), num(s.Distance.P84), z, num(s.KinematicNear), num(s.KinematicFar), strings.Join(s.Flags, ";"))
 	}
 	tw.Flush()
 	return b.String()
 }
 
+// hasHeights reports whether the sources have heights: the model has a vertical layer.
+func (r *Report) hasHeights() bool {
+	return len(r.Sources) > 0 && !math.IsNaN(r.Sources[0].Height)
+}
+
 // SourcesCSV renders the per-source rows as CSV: the columns of a run's sources table,
-// then kinematic_near, kinematic_far and the flags.
+// then kinematic_near, kinematic_far, for a model with a vertical layer the height z, and
+// the flags.
 func (r *Report) SourcesCSV() []byte {
 	var b bytes.Buffer
 	w := csv.NewWriter(&b)
@@ -294,7 +340,12 @@ func (r *Report) SourcesCSV() []byte {
 		head = append(head, "p_"+c)
 	}
 	head = append(head, "distance", "distance_lo", "distance_hi", "R", "beta", "inner_prob", "U", "U_sd", "V", "V_sd", "W", "W_sd",
-		"kinematic_near", "kinematic_far", "flags")
+		"kinematic_near", "kinematic_far")
+	layer := r.hasHeights()
+	if layer {
+		head = append(head, "z")
+	}
+	head = append(head, "flags")
 	w.Write(head)
 	f := func(x float64) string {
 		if math.IsNaN(x) {
@@ -309,7 +360,11 @@ func (r *Report) SourcesCSV() []byte {
 			row = append(row, strconv.FormatFloat(p, 'f', 4, 64))
 		}
 		row = append(row, f(s.Distance), f(s.DistanceLo), f(s.DistanceHi), f(s.R), f(s.Beta), f(s.InnerProb),
-			f(s.U), f(s.USD), f(s.V), f(s.VSD), f(s.W), f(s.WSD), f(rs.KinematicNear), f(rs.KinematicFar), strings.Join(rs.Flags, ";"))
+			f(s.U), f(s.USD), f(s.V), f(s.VSD), f(s.W), f(s.WSD), f(rs.KinematicNear), f(rs.KinematicFar))
+		if layer {
+			row = append(row, f(rs.Height))
+		}
+		row = append(row, strings.Join(rs.Flags, ";"))
 		w.Write(row)
 	}
 	w.Flush()

@@ -45,6 +45,28 @@ func shifted(t *testing.T, c *mcmc.Chain, j int, delta float64) *mcmc.Chain {
 	return out
 }
 
+// TestLayerHeight checks a source's height and its off-plane flag against the closed form
+// z = d sin b + z⊙: at b = 2°, d = 5 kpc and z⊙ = 20 pc, z = 0.19450 kpc, beyond three
+// scale heights of 50 pc and within three of 70 pc; no height without the layer.
+func TestLayerHeight(t *testing.T) {
+	src := &model.Source{Sight: model.NewSightline(30, 2)}
+	spec := &model.Spec{Galaxy: true, Vertical: true}
+	want := 5*math.Sin(2*math.Pi/180) + 0.02
+	for _, c := range []struct {
+		h   float64
+		off bool
+	}{{0.05, true}, {0.07, false}} {
+		z, off := layerHeight(spec, &model.Params{ScaleHeight: c.h, ZSun: 0.02}, src, 5)
+		if math.Abs(z-want) > 1e-15 || off != c.off {
+			t.Errorf("H = %g: z = %.17g, off-plane %v; want %.17g, %v", c.h, z, off, want, c.off)
+		}
+	}
+	spec.Vertical = false
+	if z, off := layerHeight(spec, &model.Params{ScaleHeight: 0.05}, src, 5); !math.IsNaN(z) || off {
+		t.Errorf("in-plane model: z = %g, off-plane %v", z, off)
+	}
+}
+
 func TestReportMergesRuns(t *testing.T) {
 	if testing.Short() {
 		t.Skip("runs a short fit")

@@ -262,7 +262,7 @@ func claimLocked(dir string, cfg *config.Config, catHash string, refineUntil int
 			}
 			return true, nil, writeConfig(dir, cfg)
 		case opts.Force:
-			if err := os.RemoveAll(dir); err != nil {
+			if err := discardDir(dir); err != nil {
 				return false, nil, err
 			}
 		case m.State == StateFinished:
@@ -315,6 +315,32 @@ func claimLocked(dir string, cfg *config.Config, catHash string, refineUntil int
 	return false, l, nil
 }
 
+// discardDir removes the run directory dir for --force in two steps: one rename moves it
+// into a hidden temporary folder beside it, and that folder is then deleted. A fit killed
+// meanwhile leaves either the whole old run under dir or nothing there, never a half-deleted
+// run that can be neither resumed nor replaced; what a killed deletion left behind is
+// deleted the next time.
+func discardDir(dir string) error {
+	parent, base := filepath.Dir(dir), filepath.Base(dir)
+	if left, _ := filepath.Glob(filepath.Join(parent, "."+base+".old-*")); len(left) > 0 {
+		for _, p := range left {
+			os.RemoveAll(p)
+		}
+	}
+	trash, err := os.MkdirTemp(parent, "."+base+".old-*")
+	if err != nil {
+		return fmt.Errorf("replacing run directory %s: %w", dir, err)
+	}
+	if err := os.Rename(dir, filepath.Join(trash, base)); err != nil {
+		os.Remove(trash)
+		return fmt.Errorf("replacing run directory %s: %w", dir, err)
+	}
+	if err := atomicfile.SyncDir(parent); err != nil {
+		return err
+	}
+	return os.RemoveAll(trash)
+}
+
 func writeConfig(dir string, cfg *config.Config) error {
 	return atomicfile.Write(filepath.Join(dir, ConfigFile), cfg.Resolved())
 }
@@ -361,11 +387,13 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 	}
 	if pilot == nil {
 		job.logf("laying out the distance quadratures of %d sources", len(job.Like.Sources))
+		began := time.Now()
 		var err error
 		pilot, err = job.Pilot(ctx, cfg.Sampler.Seed, cfg.Sampler.Threads)
 		if err != nil {
 			return nil, err
 		}
+		job.logf("pilot stage done in %.1f s", time.Since(began).Seconds())
 		if err := writePilot(filepath.Join(dir, PilotFile), pilot); err != nil {
 			return nil, err
 		}
@@ -457,11 +485,13 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 	// Sources are shared among the threads that no walker keeps busy (fewer walkers in a
 	// half-step than threads, or the last walkers of one); the value is the same either way.
 	logDensity := func(x []float64) float64 { return job.Post.LogDensityParallel(x, set.Threads) }
+	began := time.Now()
 	res, err := mcmc.Run(ctx, mcmc.Problem{LogDensity: logDensity, Dim: len(names)}, start, set)
 	if err != nil {
 		return nil, err
 	}
 	out.Result = res
+	job.logf("sampling took %.1f s", time.Since(began).Seconds())
 	if res.Status == mcmc.TimeLimit || res.Status == mcmc.Cancelled {
 		job.logf("stopped at step %d (%s); continue with --resume", res.Step, res.Status)
 		return out, updateManifest(dir, func(m *Manifest) {
