@@ -8,7 +8,7 @@ import (
 // testdata/selnorm/selnorm_cases.json with reused storage; points/op counts the plane points
 // at which the layer's share is computed.
 func BenchmarkNormalisationCases(b *testing.B) {
-	cases, _ := readSelCases(b)
+	cases := readSelCases(b)
 	for _, c := range cases {
 		b.Run(c.Name, func(b *testing.B) {
 			d, sel := c.layout(b)
