@@ -429,7 +429,19 @@ func (n *normaliser) visible(x, y float64) float64 {
 	k := 1
 	iv[0] = [2]float64{math.Inf(-1), math.Inf(1)}
 	if n.cutLo || n.cutHi {
-		k = n.band(P, s, &iv)
+		// Within layerReach·H of the mid-plane the latitude moves by at most layerReach·H/s
+		// and sin δ by no more: a band edge farther than that in sin δ leaves the layer
+		// wholly in or wholly out.
+		zm := -n.zsun
+		fm := (P + n.pz*zm) / math.Sqrt(s2+zm*zm)
+		margin := 1.01 * layerReach * n.h / s
+		if (!n.cutLo || math.Abs(fm-n.sinLo) > margin) && (!n.cutHi || math.Abs(fm-n.sinHi) > margin) {
+			if (n.cutLo && fm < n.sinLo) || (n.cutHi && fm > n.sinHi) {
+				return 0
+			}
+		} else {
+			k = n.band(P, s, &iv)
+		}
 	}
 	zD := math.Sqrt(n.dmax*n.dmax - s2)
 	zd := 0.0
