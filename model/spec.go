@@ -120,6 +120,9 @@ type Params struct {
 	// ScaleHeight H (kpc) of the sources' layer and ZSun z⊙ (kpc), the Sun's height above
 	// its mid-plane; zero, and unused, when the spec has no vertical structure.
 	ScaleHeight, ZSun float64
+	// LogNorm is ln Σ_m f_m Z_m, the logarithm of the selected share of the mixture (see
+	// Spec.Normalisation), which every source's ln L_i subtracts; zero without a selection.
+	LogNorm float64
 }
 
 // NewParams builds a parameter set from values by name (the names of the configuration and
@@ -212,6 +215,9 @@ func (s *Spec) NewParams(values map[string]float64) (*Params, error) {
 	}
 	if math.Abs(sum-1) > 1e-6 {
 		return nil, fmt.Errorf("membership fractions sum to %.9g, want 1", sum)
+	}
+	if err := s.setLogNorm(p); err != nil {
+		return nil, err
 	}
 	return p, nil
 }

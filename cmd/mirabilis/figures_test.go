@@ -25,12 +25,13 @@ const (
 [survey]
 sources = 40
 seed = 17
-declination_range = [-35, 90]
-max_distance = 9
-min_distance = 0.5
 fractions = { field = 0.15 }
 labelled = 0.3
 missing_share = 0.1
+
+[selection]
+declination = [-35, 90]
+completeness = { half_distance = 8, softness = 0.5 }
 `
 	figTestSampler = `
 [sampler]

@@ -49,9 +49,6 @@ func smallFit(t *testing.T, dir string) string {
 [survey]
 sources = 25
 seed = 11
-declination_range = [-90, 90]
-max_distance = 15
-min_distance = 0.5
 fractions = { field = 0.15 }
 parallax_error = [0.01, 0.004]
 proper_motion_error = [0.03, 0.015]

@@ -22,18 +22,14 @@ var simulateCommand = &command{
 	Long: `Simulate draws a mock catalog from the model described in MODEL.toml: a run
 configuration (see "mirabilis help config") whose parameter priors hold the true
 values — write them as fixed(v); a prior that is not fixed contributes its median —
-and one more table, [survey], which says how many sources to draw, where the survey
-can see and how well it measures:
+and one more table, [survey], which says how many sources to draw, in what shares
+and how well the survey measures them:
 
   [survey]
   sources = 150                  number of sources
   seed = 7                       seed of the draws (--seed replaces it)
-  declination_range = [-30, 90]  deg: the part of the sky the survey sees
-  max_distance = 16              kpc: farther sources are too faint
-  min_distance = 0.3             kpc
-  fractions = { field = 0.15 }   shares of the field and of arms by name;
-                                 arms not named share the rest equally
-  height = 0.03                  kpc: Gaussian thickness of the source disk
+  fractions = { field = 0.15 }   the Galaxy's fractions of the field and of arms
+                                 by name; arms not named share the rest equally
   parallax_error = [0.008, 0.004]    mas: σϖ = a + b·d, d in kpc
   proper_motion_error = [0.03, 0.02] mas/yr: σμ = a + b·d
   velocity_error = 3             km/s
@@ -41,16 +37,32 @@ can see and how well it measures:
   galactic_share = 0.0           share written in l, b (else ra, dec)
   missing_share = 0.05           share with one kinematic term left blank
 
-Arm sources are spread uniformly in azimuth over each arm's range and as a
-Gaussian across it, field sources follow the exponential disk; every source moves
-with the model's rotation and mean peculiar motion plus the intrinsic scatter
-(sigma_vir, and the bar's inside R_inner).
+The sources follow exactly the density the fit's likelihood uses, so that the
+same description serves the mock and its fit: arm sources spread along each arm
+with its ends softened (end_softening) and across it as a Gaussian of the arm's
+width at their own radius, field sources in the exponential disk, all in a layer
+of Gaussian profile of the true scale_height about the mid-plane, with the Sun
+z_sun above it (with vertical = "none" every source lies in the plane, at b = 0).
+Sources are drawn from the whole Galaxy and kept where the survey sees them: within
+the likelihood's distance_range, and with the probability the [selection] table
+gives (declination, exclude_longitude, completeness; see "mirabilis help
+config"). Give the fit the same [selection] table. So the fractions are the
+Galaxy's, and the catalog's shares differ from them as the selection favours some
+components; the truth file lists both. Every source moves with the model's
+rotation and mean peculiar motion plus the intrinsic scatter (sigma_vir, and the
+bar's inside R_inner).
+
+Earlier mock files set the survey's reach and thickness in [survey]
+(declination_range, max_distance, min_distance, height). These are refused, with
+what to write instead: declination under [selection], distance_range under
+[likelihood] or completeness under [selection], and scale_height under [params].
 
 The catalog goes to --out, by default MODEL-mock.csv next to MODEL.toml ("-" is
-standard output); the true distances and memberships go to --truth, by default the
-catalog's name with "-truth" added (MODEL-mock-truth.csv when the catalog goes to
-standard output). The catalog that MODEL.toml names is never written. An existing
-file is not replaced without --force. Simulate says where every file went.`,
+standard output); the true distances, memberships and heights go to --truth, by
+default the catalog's name with "-truth" added (MODEL-mock-truth.csv when the
+catalog goes to standard output), after comment lines (#) giving each component's
+fraction in the Galaxy and share of the catalog. The catalog that MODEL.toml names
+is never written. An existing file is not replaced without --force. Simulate says where every file went.`,
 	Flags: func(fs *flag.FlagSet) runFunc {
 		var o simulateOptions
 		fs.StringVar(&o.out, "out", "", "the catalog to write, `CATALOG.csv` (default: MODEL-mock.csv next to MODEL.toml; - for standard output)")
@@ -174,7 +186,7 @@ func simulateTo(m *mock.Model, seed *uint64, out, truthPath string, env *runEnv)
 	}
 	if truthPath != "" {
 		var tb bytes.Buffer
-		mock.WriteTruth(&tb, truth)
+		m.WriteTruth(&tb, truth)
 		if err := atomicfile.Write(truthPath, tb.Bytes()); err != nil {
 			return 0, err
 		}

@@ -216,7 +216,7 @@ func TestSlurmCalibration(t *testing.T) {
 	bin := buildProgram(t, dir)
 	cfgPath, _ := mocktest.Catalog(t, dir, figTestSurvey, "\n[sampler]\nwalkers = 40\nsteps = 60\nburn = 20\nseed = 3\n", fit.SpecFromConfig)
 	survey := filepath.Join(dir, "survey.toml")
-	writeFile(t, survey, []byte("[survey]\nsources = 25\nmax_distance = 10\nmin_distance = 0.5\ndeclination_range = [-90, 90]\n"))
+	writeFile(t, survey, []byte("[survey]\nsources = 25\n"))
 
 	array := filepath.Join(dir, "mocks")
 	runBin(t, bin, "batch", cfgPath, "--mocks", "3", "--survey", survey, "--cpus", "1", "--time", "00:20:00", "--out", array)

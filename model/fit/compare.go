@@ -14,6 +14,7 @@ import (
 	"github.com/mirabilis-astro/mirabilis/mcmc"
 	"github.com/mirabilis-astro/mirabilis/model"
 	"github.com/mirabilis-astro/mirabilis/model/catalog"
+	"github.com/mirabilis-astro/mirabilis/model/config"
 )
 
 // This file compares models fitted to one catalog by Pareto-smoothed
@@ -291,8 +292,10 @@ outer:
 // same catalog (by SHA-256; the error names the sources that differ), their
 // ln L_i are densities of the same data (the same distance mode: with
 // distance_prior = "galaxy" the likelihood is a density of the positions as
-// well, with "parallax" it is not), and every source is tied to an arm in all
-// of them or in none.
+// well, with "parallax" it is not; the same vertical mode: with vertical =
+// "gaussian" it is a density of the latitudes too; and the same selection, over
+// whose share of the Galaxy each source's density is normalised), and every
+// source is tied to an arm in all of them or in none (MODEL.md §10).
 func CheckComparable(models [][]*Run) error {
 	a := models[0][0]
 	for _, grp := range models[1:] {
@@ -306,6 +309,15 @@ func CheckComparable(models [][]*Run) error {
 		if da != db {
 			return fmt.Errorf("runs %s and %s use different distance modes (distance_prior = %q and %q): with \"galaxy\" each source's likelihood is a density of its position as well as its measurements, with \"parallax\" it is not, so their elpd are not on one scale",
 				a.Dir, b.Dir, da, db)
+		}
+		va, vb := a.Job.Config.Likelihood.Vertical, b.Job.Config.Likelihood.Vertical
+		if va != vb {
+			return fmt.Errorf("runs %s and %s use different vertical modes (vertical = %q and %q): with \"gaussian\" each source's likelihood is a density of its latitude as well, with \"none\" it is not, so their elpd are not on one scale",
+				a.Dir, b.Dir, va, vb)
+		}
+		if sa, sb := selectionText(a.Job.Config.Selection), selectionText(b.Job.Config.Selection); sa != sb {
+			return fmt.Errorf("runs %s and %s assume different survey selections (%s; %s): each source's likelihood is a density over what its survey could find, so under different selections their elpd are not on one scale",
+				a.Dir, b.Dir, sa, sb)
 		}
 		var bad []string
 		for i, s := range a.Job.Like.Sources {
@@ -324,6 +336,25 @@ func CheckComparable(models [][]*Run) error {
 		}
 	}
 	return nil
+}
+
+// selectionText describes a survey's selection in the terms of the [selection] table, or
+// says there is none; equal selections give equal text.
+func selectionText(s config.Selection) string {
+	if !s.Active() {
+		return "no selection"
+	}
+	var parts []string
+	if s.Declination != nil {
+		parts = append(parts, fmt.Sprintf("declination = %v", s.Declination))
+	}
+	if len(s.ExcludeLongitude) > 0 {
+		parts = append(parts, fmt.Sprintf("exclude_longitude = %v", s.ExcludeLongitude))
+	}
+	if s.HalfDistance != 0 {
+		parts = append(parts, fmt.Sprintf("completeness = { half_distance = %g, softness = %g }", s.HalfDistance, s.Softness))
+	}
+	return strings.Join(parts, ", ")
 }
 
 // catalogDifference describes how two catalogs differ, by source.

@@ -172,6 +172,11 @@ func TestCompareFindsKink(t *testing.T) {
 
 // fakeRun is a run with just what CheckComparable reads.
 func fakeRun(dir, hash string, dist config.DistancePrior, labels []int, names []string) *Run {
+	return fakeRunOf(dir, hash, dist, config.VerticalGaussian, config.Selection{}, labels, names)
+}
+
+// fakeRunOf is fakeRun with a vertical mode and a selection.
+func fakeRunOf(dir, hash string, dist config.DistancePrior, vert config.VerticalStructure, sel config.Selection, labels []int, names []string) *Run {
 	cat := &catalog.Catalog{Path: dir + "/sources.csv"}
 	var src []model.Source
 	for i, l := range labels {
@@ -180,17 +185,20 @@ func fakeRun(dir, hash string, dist config.DistancePrior, labels []int, names []
 	}
 	cfg := &config.Config{Catalog: cat.Path}
 	cfg.Likelihood.DistancePrior = dist
+	cfg.Likelihood.Vertical = vert
+	cfg.Selection = sel
 	return &Run{Dir: dir, Manifest: &Manifest{CatalogSHA256: hash},
 		Job: &Job{Config: cfg, Catalog: cat, Like: &model.Likelihood{Sources: src}}}
 }
 
 // Models are refused, with the reason, when they fit different catalogs (the differing
-// sources named), use different distance modes, or tie a source to an arm in one model
-// and not in the other (MODEL.md §10).
+// sources named), use different distance modes, vertical modes or selections, or tie a
+// source to an arm in one model and not in the other (MODEL.md §10).
 func TestCheckComparableRefuses(t *testing.T) {
 	names := []string{"s1", "s2", "s3"}
 	a := fakeRun("a", "h1", config.DistanceGalaxy, []int{0, 1, 0}, names)
 	other := fakeRun("b", "h2", config.DistanceGalaxy, []int{0, 1, 0}, []string{"s1", "s2", "s4"})
+	band := config.Selection{Declination: []float64{-30, 90}}
 	for _, c := range []struct {
 		b    *Run
 		want []string
@@ -199,6 +207,12 @@ func TestCheckComparableRefuses(t *testing.T) {
 		{other, []string{"different catalogs", "only in a/sources.csv: s3", "only in b/sources.csv: s4"}},
 		{fakeRun("b", "h1", config.DistanceParallax, []int{0, 1, 0}, names), []string{"different distance modes", `"galaxy" and "parallax"`}},
 		{fakeRun("b", "h1", config.DistanceGalaxy, []int{0, 0, 2}, names), []string{"2 source(s)", "s2 (tied to an arm in a, free in b)", "s3 (tied to an arm in b, free in a)"}},
+		{fakeRunOf("b", "h1", config.DistanceGalaxy, config.VerticalNone, config.Selection{}, []int{0, 1, 0}, names),
+			[]string{"different vertical modes", `vertical = "gaussian" and "none"`}},
+		{fakeRunOf("b", "h1", config.DistanceGalaxy, config.VerticalGaussian, band, []int{0, 1, 0}, names),
+			[]string{"different survey selections", "no selection; declination = [-30 90]"}},
+		{fakeRunOf("b", "h1", config.DistanceGalaxy, config.VerticalGaussian, config.Selection{HalfDistance: 12, Softness: 1.5}, []int{0, 1, 0}, names),
+			[]string{"different survey selections", "completeness = { half_distance = 12, softness = 1.5 }"}},
 	} {
 		err := CheckComparable([][]*Run{{a}, {c.b}})
 		if c.want == nil {

@@ -26,9 +26,6 @@ func surveyOf(n int) string {
 [survey]
 sources = %d
 seed = 11
-declination_range = [-90, 90]
-max_distance = 18
-min_distance = 0.4
 fractions = { field = 0.15 }
 parallax_error = [0.008, 0.003]
 proper_motion_error = [0.03, 0.015]

@@ -387,11 +387,13 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 	}
 	if pilot == nil {
 		job.logf("laying out the distance quadratures of %d sources", len(job.Like.Sources))
+		began := time.Now()
 		var err error
 		pilot, err = job.Pilot(ctx, cfg.Sampler.Seed, cfg.Sampler.Threads)
 		if err != nil {
 			return nil, err
 		}
+		job.logf("pilot stage done in %.1f s", time.Since(began).Seconds())
 		if err := writePilot(filepath.Join(dir, PilotFile), pilot); err != nil {
 			return nil, err
 		}
@@ -483,11 +485,13 @@ func runIn(ctx context.Context, job *Job, dir string, resuming bool, limit int, 
 	// Sources are shared among the threads that no walker keeps busy (fewer walkers in a
 	// half-step than threads, or the last walkers of one); the value is the same either way.
 	logDensity := func(x []float64) float64 { return job.Post.LogDensityParallel(x, set.Threads) }
+	began := time.Now()
 	res, err := mcmc.Run(ctx, mcmc.Problem{LogDensity: logDensity, Dim: len(names)}, start, set)
 	if err != nil {
 		return nil, err
 	}
 	out.Result = res
+	job.logf("sampling took %.1f s", time.Since(began).Seconds())
 	if res.Status == mcmc.TimeLimit || res.Status == mcmc.Cancelled {
 		job.logf("stopped at step %d (%s); continue with --resume", res.Step, res.Status)
 		return out, updateManifest(dir, func(m *Manifest) {

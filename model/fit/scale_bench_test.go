@@ -70,11 +70,7 @@ width = "uniform(0.25, 0.45)"
 
 [survey]
 seed = 1789
-declination_range = [-90, 90]
-max_distance = 18
-min_distance = 0.4
 fractions = { field = 0.15 }
-height = 0.03
 parallax_error = [0.008, 0.003]
 proper_motion_error = [0.03, 0.015]
 velocity_error = 3

@@ -1,7 +1,14 @@
 // Package mock draws mock catalogs from the model with known parameters: sources along each
-// spiral arm and in the field disk, moving with the model's rotation and peculiar motions
-// plus their intrinsic scatter, seen through a survey-like selection (a declination range,
-// a distance limit, a number of sources) with measurement errors that grow with distance.
+// spiral arm and in the field disk, in the layer about the mid-plane, moving with the model's
+// rotation and peculiar motions plus their intrinsic scatter, seen through the survey's
+// selection, with measurement errors that grow with distance.
+//
+// The places of the sources follow exactly the spatial density of the likelihood (MODEL.md
+// §4, §5, §9): the Galaxy's fractions, each arm's density with its softened ends and its
+// width at the source's radius, the layer N(z; 0, H) of the parameters scale_height and z_sun
+// with z = d sin b + z⊙, the distance range [d_min, d_max] of [likelihood] distance_range, and
+// the selection S(l, b, d) of the [selection] table. One description thus serves the mock and
+// its fit.
 //
 // A mock is described by a run configuration (see package config) whose parameter priors
 // give the true values (each prior's median; write them as fixed values), with one more
@@ -10,17 +17,17 @@
 //	[survey]
 //	sources = 150                  # number of sources drawn
 //	seed = 7                       # seed of the draws
-//	declination_range = [-30, 90]  # deg: what the survey's telescopes can see
-//	max_distance = 16              # kpc: farther sources are too faint
-//	min_distance = 0.3             # kpc
-//	fractions = { field = 0.15, Corvid = 0.25 }  # membership shares; arms not named share the rest equally
-//	height = 0.03                  # kpc: Gaussian thickness of the disk of sources
+//	fractions = { field = 0.15, Corvid = 0.25 }  # the Galaxy's fractions; arms not named share the rest equally
 //	parallax_error = [0.008, 0.004]   # mas: σϖ = a + b·d (d in kpc)
 //	proper_motion_error = [0.03, 0.02] # mas/yr: σμ = a + b·d
 //	velocity_error = 3             # km/s
 //	labelled = 0.1                 # share of arm sources whose arm is written in the catalog
 //	galactic_share = 0.0           # share of sources whose position and proper motion are written in (l, b)
 //	missing_share = 0.05           # share of sources with one kinematic term left blank
+//
+// The survey's earlier settings of its reach and thickness (declination_range, max_distance,
+// min_distance, height) are refused, with what to write instead: the reach is the
+// [selection] table and the distance range, the thickness the parameter scale_height.
 package mock
 
 import (
@@ -45,15 +52,12 @@ import (
 	"github.com/mirabilis-astro/mirabilis/model/param"
 )
 
-// Survey describes the mock survey: how many sources, where it can see, how well it measures.
+// Survey describes the mock survey: how many sources, in what shares, how well it measures.
+// Where it can see is the configuration's [selection] table and distance range.
 type Survey struct {
 	Sources          int                `toml:"sources"`
 	Seed             uint64             `toml:"seed"`
-	DecRange         [2]float64         `toml:"declination_range"`
-	MaxDistance      float64            `toml:"max_distance"`
-	MinDistance      float64            `toml:"min_distance"`
 	Fractions        map[string]float64 `toml:"fractions"`
-	Height           float64            `toml:"height"`
 	ParallaxError    [2]float64         `toml:"parallax_error"`
 	ProperMotionErr  [2]float64         `toml:"proper_motion_error"`
 	VelocityError    float64            `toml:"velocity_error"`
@@ -66,8 +70,7 @@ type Survey struct {
 // DefaultSurvey returns the survey settings used for keys the [survey] table leaves out.
 func DefaultSurvey() Survey {
 	return Survey{
-		Sources: 150, Seed: 1, DecRange: [2]float64{-30, 90}, MaxDistance: 16, MinDistance: 0.3,
-		Height: 0.03, ParallaxError: [2]float64{0.008, 0.004}, ProperMotionErr: [2]float64{0.03, 0.02},
+		Sources: 150, Seed: 1, ParallaxError: [2]float64{0.008, 0.004}, ProperMotionErr: [2]float64{0.03, 0.02},
 		VelocityError: 3, Labelled: 0.1, MissingShare: 0.05,
 	}
 }
@@ -133,7 +136,9 @@ func Parse(data []byte, name, baseDir string) (*Model, error) {
 				row, _ := e.Position()
 				key := e.Key()[len(e.Key())-1]
 				msg := fmt.Sprintf("%s:%d: survey.%s: unknown setting", name, row, key)
-				if s := spelling.Nearest(key, surveyKeys()); s != "" {
+				if instead := retired(key, survey, row); instead != "" {
+					msg = fmt.Sprintf("%s:%d: survey.%s: no longer a survey setting: %s", name, row, key, instead)
+				} else if s := spelling.Nearest(key, surveyKeys()); s != "" {
 					msg += fmt.Sprintf(" (did you mean %s?)", s)
 				} else {
 					msg += "; known in [survey]: " + strings.Join(surveyKeys(), ", ")
@@ -163,6 +168,33 @@ func Parse(data []byte, name, baseDir string) (*Model, error) {
 		return nil, err
 	}
 	return m, nil
+}
+
+// retired says what to write instead of a setting the [survey] table no longer takes, or ""
+// for a key it never took: the survey's reach and the layer's thickness are the model's, so
+// that the mock and its fit read them from one description. lines are the description's
+// lines and row the setting's line (1-based), whose value is carried over where it can be.
+func retired(key string, lines []string, row int) string {
+	value := ""
+	if row >= 1 && row <= len(lines) {
+		if _, v, ok := strings.Cut(lines[row-1], "="); ok {
+			value, _, _ = strings.Cut(v, "#")
+			value = strings.TrimSpace(value)
+		}
+	}
+	if value == "" {
+		value = "…"
+	}
+	switch key {
+	case "declination_range":
+		return fmt.Sprintf("the sky a survey sees is the [selection] table's, which the fit reads too: write declination = %s under [selection] (deg, ICRS)", value)
+	case "max_distance", "min_distance":
+		return "sources are drawn over the likelihood's distance range, distance_range = [d_min, d_max] under [likelihood] (kpc); " +
+			"a survey that finds distant sources less often has completeness = { half_distance = …, softness = … } under [selection] (kpc)"
+	case "height":
+		return fmt.Sprintf("the sources' layer is the model's: write scale_height = \"fixed(%s)\" under [params] (kpc), and z_sun for the Sun's height above the mid-plane", value)
+	}
+	return ""
 }
 
 // surveyKeys lists the settings of the [survey] table.
@@ -258,18 +290,12 @@ func (m *Model) checkSurvey(name string) error {
 	switch {
 	case s.Sources < 1:
 		return bad("sources", "%d: want at least one source", s.Sources)
-	case !(s.DecRange[0] < s.DecRange[1]) || s.DecRange[0] < -90 || s.DecRange[1] > 90:
-		return bad("declination_range", "%v: want −90 ≤ low < high ≤ 90", s.DecRange)
-	case !(s.MinDistance >= 0 && s.MaxDistance > s.MinDistance):
-		return bad("max_distance", "%g (min_distance %g): want 0 ≤ min < max", s.MaxDistance, s.MinDistance)
 	case !(s.ParallaxError[0] > 0 && s.ParallaxError[1] >= 0):
 		return bad("parallax_error", "%v: want a > 0, b ≥ 0", s.ParallaxError)
 	case !(s.ProperMotionErr[0] > 0 && s.ProperMotionErr[1] >= 0):
 		return bad("proper_motion_error", "%v: want a > 0, b ≥ 0", s.ProperMotionErr)
 	case !(s.VelocityError > 0):
 		return bad("velocity_error", "%g: want a positive number", s.VelocityError)
-	case !(s.Height >= 0):
-		return bad("height", "%g: must not be negative", s.Height)
 	}
 	for _, share := range []struct {
 		key string
@@ -337,13 +363,18 @@ type Truth struct {
 	Name      string
 	Component string // "field" or the arm's name
 	Distance  float64
-	R, Beta   float64 // kpc, deg
-	Z         float64 // kpc
+	R, Beta   float64 // kpc, deg; on an arm Beta is the arm's own azimuth, unwrapped
+	Z         float64 // kpc above the mid-plane
 }
 
 // Draw draws the mock catalog from spec, the fixed part of the model that m.Config
-// describes (package fit makes it: fit.SpecFromConfig). seed, when not nil, replaces the
-// survey's seed. The same description and seed give the same catalog.
+// describes (package fit makes it: fit.SpecFromConfig), at the true parameters. seed, when
+// not nil, replaces the survey's seed. The same description and seed give the same catalog.
+//
+// The sources' places follow the likelihood's spatial density (see the package comment):
+// each is drawn from the whole Galaxy with its component's fraction and kept only where the
+// survey sees it, so the fractions are the Galaxy's and the catalog's shares differ from
+// them as the selection favours one component over another.
 func (m *Model) Draw(spec *model.Spec, seed *uint64) ([]catalog.Source, []Truth, error) {
 	s := m.Survey
 	if seed != nil {
@@ -357,55 +388,28 @@ func (m *Model) Draw(spec *model.Spec, seed *uint64) ([]catalog.Source, []Truth,
 		return nil, nil, fmt.Errorf("true parameters: %w", err)
 	}
 	rng := rand.New(rand.NewPCG(s.Seed, 0x6d6f636b))
-	R0 := p.Motion.R0()
-	cum := make([]float64, len(s.fractionsOrdered))
-	var c float64
-	for i, f := range s.fractionsOrdered {
-		c += f
-		cum[i] = c
+	pl, err := newPlacer(spec, p, s.fractionsOrdered)
+	if err != nil {
+		return nil, nil, err
 	}
 	var out []catalog.Source
 	var truth []Truth
 	for tries := 0; len(out) < s.Sources; tries++ {
-		if tries > 1000*s.Sources {
-			return nil, nil, fmt.Errorf("the survey's selection accepts too few sources (%d after %d draws): widen declination_range or max_distance", len(out), tries)
+		if tries > 10000*s.Sources {
+			return nil, nil, fmt.Errorf("the survey's selection accepts too few sources (%d after %d draws): widen the [selection] or the distance range", len(out), tries)
 		}
-		u := rng.Float64()
-		comp := 0
-		for comp < len(cum)-1 && u > cum[comp] {
-			comp++
+		pc, ok, err := pl.draw(rng)
+		if err != nil {
+			return nil, nil, err
 		}
-		var R, beta float64
-		if comp == 0 {
-			h := spec.DiskScale
-			R = -h * math.Log(rng.Float64()*rng.Float64()) // Gamma(2, h): ρ ∝ e^(−R/h) per unit area
-			beta = (2*rng.Float64() - 1) * math.Pi
-		} else {
-			a := p.Layout.Arms[comp-1]
-			beta = a.BetaStart + rng.Float64()*(a.BetaEnd-a.BetaStart)
-			Rk := a.Radius(beta)
-			w := math.Max(a.Width+p.Layout.WidthSlope*(Rk-R0), 0.01)
-			R = Rk + w*rng.NormFloat64()/math.Cos(a.PitchAt(beta))
-			if R <= 0 {
-				continue
-			}
-		}
-		z := s.Height * rng.NormFloat64()
-		px, py := R0-R*math.Cos(beta), R*math.Sin(beta)
-		dIn := math.Hypot(px, py)
-		d := math.Hypot(dIn, z)
-		if d < s.MinDistance || d > s.MaxDistance || d < spec.DMin {
+		if !ok {
 			continue
 		}
-		l := math.Atan2(py, px) / deg
-		if l < 0 {
-			l += 360
-		}
-		b := math.Atan2(z, dIn) / deg
+		d, R, z := pc.d, pc.R, pc.z
+		l, b := pc.l/deg, pc.b/deg
 		ra, decl := model.GalacticToICRS(l, b)
-		if decl < s.DecRange[0] || decl > s.DecRange[1] {
-			continue
-		}
+		comp := pc.comp
+		beta := pc.beta
 		sl := model.NewSightline(l, b)
 		// True velocity: the model's mean motion plus the intrinsic scatter σ(R) in each
 		// of û, v̂, ẑ at the source.
@@ -487,8 +491,26 @@ func (m *Model) Render(spec *model.Spec, seed *uint64) ([]byte, []Truth, error) 
 }
 
 // WriteTruth writes the true values of the sources as CSV: name, component, distance (kpc),
-// R (kpc), beta (deg), z (kpc).
-func WriteTruth(w *bytes.Buffer, truth []Truth) {
+// R (kpc), beta (deg), z (kpc above the mid-plane). Comment lines starting with '#' come
+// first, one per component: its fraction in the Galaxy (the true value of its f_ parameter)
+// and its share of the catalog, which the survey's selection makes differ from it.
+func (m *Model) WriteTruth(w *bytes.Buffer, truth []Truth) {
+	count := map[string]int{}
+	for _, t := range truth {
+		count[t.Component]++
+	}
+	names := []string{param.FieldComponent}
+	for _, a := range m.Config.Arms {
+		names = append(names, a.Name)
+	}
+	w.WriteString("# component: fraction in the Galaxy (true f_), share of this catalog\n")
+	for _, n := range names {
+		share := 0.0
+		if len(truth) > 0 {
+			share = float64(count[n]) / float64(len(truth))
+		}
+		fmt.Fprintf(w, "# %s: galaxy %.4f, catalog %.4f (%d of %d)\n", n, m.Truth[param.FractionName(n)], share, count[n], len(truth))
+	}
 	w.WriteString("name,component,distance,R,beta,z\n")
 	for _, t := range truth {
 		fmt.Fprintf(w, "%s,%s,%.6f,%.6f,%.4f,%.5f\n", t.Name, t.Component, t.Distance, t.R, t.Beta, t.Z)

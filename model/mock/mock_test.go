@@ -1,6 +1,8 @@
 package mock
 
 import (
+	"bytes"
+	"fmt"
 	"math"
 	"os"
 	"strings"
@@ -12,15 +14,18 @@ import (
 	"gonum.org/v1/gonum/stat"
 )
 
-// survey is the [survey] table of the test: precise kinematics, a declination and a
-// distance limit.
+// survey is the survey of the test: precise kinematics, a declination band and a distance
+// range.
 const survey = `
+[likelihood]
+distance_range = [0.5, 15]
+
+[selection]
+declination = [-30, 60]
+
 [survey]
 sources = 3000
 seed = 5
-declination_range = [-30, 60]
-max_distance = 15
-min_distance = 0.5
 fractions = { field = 0.2, Corvid = 0.5 }
 parallax_error = [0.01, 0.002]
 proper_motion_error = [0.002, 0.0]
@@ -104,8 +109,7 @@ func TestDrawFollowsTheModel(t *testing.T) {
 	}
 	// Shares follow the fractions when nothing is selected (the selection above favours the
 	// arms, which lie nearer): binomial standard errors.
-	open := strings.NewReplacer("declination_range = [-30, 60]", "declination_range = [-90, 90]",
-		"max_distance = 15", "max_distance = 60", "min_distance = 0.5", "min_distance = 0.05").Replace(survey)
+	open := strings.NewReplacer("declination = [-30, 60]", "", "distance_range = [0.5, 15]", "distance_range = [0.05, 60]").Replace(survey)
 	mAll, err := Parse(testGalaxy(t, open), "galaxy.toml", t.TempDir())
 	if err != nil {
 		t.Fatal(err)
@@ -117,6 +121,23 @@ func TestDrawFollowsTheModel(t *testing.T) {
 	_, all, err := mAll.Draw(specAll, nil)
 	if err != nil {
 		t.Fatal(err)
+	}
+	// The truth file gives the Galaxy's fractions and the catalog's shares, which the
+	// selection makes differ: the declination band and the distance range favour the arms.
+	var tb bytes.Buffer
+	m.WriteTruth(&tb, truth)
+	nField := 0
+	for _, tr := range truth {
+		if tr.Component == "field" {
+			nField++
+		}
+	}
+	line := fmt.Sprintf("# field: galaxy 0.2000, catalog %.4f (%d of %d)\n", float64(nField)/float64(len(truth)), nField, len(truth))
+	if !strings.Contains(tb.String(), line) || !strings.Contains(tb.String(), "\nname,component,distance,R,beta,z\n") {
+		t.Errorf("truth file does not give the field's fraction and share as %q:\n%.300s", line, tb.String())
+	}
+	if se := math.Sqrt(0.2 * 0.8 / float64(len(truth))); math.Abs(float64(nField)/float64(len(truth))-0.2) < 4*se {
+		t.Errorf("the field's share of the selected catalog, %d of %d, is its Galaxy fraction 0.2: the selection should favour the arms", nField, len(truth))
 	}
 	shares := map[string]int{}
 	for _, tr := range all {
