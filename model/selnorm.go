@@ -47,8 +47,8 @@ import (
 
 const (
 	// armReach is how far across an arm, in widths, its line integral runs: the mass beyond
-	// is 8e-11.
-	armReach = 6.5
+	// is 4e-8.
+	armReach = 5.5
 	// normTol is the outer quadrature's tolerance on Σ |K15 − G7|, relative to the
 	// component's value; the K15 sums it accepts are far more accurate than that.
 	normTol = 3e-5
