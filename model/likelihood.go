@@ -424,7 +424,7 @@ func (L *Likelihood) SourceDetail(i int, p *Params, memb []float64) float64 {
 	// density times its fraction (equal when absent), as the mixture would.
 	s, g := &L.Sources[i], L.grids[i]
 	gal := *L.Spec
-	gal.Galaxy = true
+	gal.Galaxy, gal.Vertical, gal.Selection = true, false, Selection{}
 	for j, d := range g.d {
 		lk, pr := s.logKinematic(L.Spec, p, d)
 		v := s.logBase(&gal, d) + lk

@@ -43,7 +43,8 @@ type Spec struct {
 	// Vertical puts the sources in a layer of Gaussian profile about the mid-plane, of scale
 	// height ScaleHeight with the Sun at height ZSun (Params): the spatial factor of the
 	// integrand in u = ln d is Σ_m f_m ρ_m(R, β) N(d sin b + z⊙; 0, H) d³ cos b. False is
-	// the in-plane form (d cos b)² Σ_m f_m ρ_m(R, β), with no height parameters.
+	// the in-plane form (d cos b)² Σ_m f_m ρ_m(R, β), with no height parameters. It applies
+	// in the galaxy mode only: the parallax mode's prior is uniform in d.
 	Vertical bool
 	// Selection is the survey's selection function; the zero value selects everything.
 	// Its distance term multiplies each source's integrand.
