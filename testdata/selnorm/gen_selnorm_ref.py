@@ -9,13 +9,15 @@ The densities are written here from MODEL.md sections 4 and 9 (log-periodic arms
 optional kink, windings counted over [beta_start - 30 tau, beta_end + 30 tau], logistic soft
 ends, width slope with its floor of 0.01 kpc, exponential field disk, Gaussian layer).
 The integral runs in heliocentric cylindrical coordinates (s, l, z), dV = s ds dl dz:
-  - l by scipy.integrate.quad (adaptive), over the longitudes not excluded, with the
-    longitudes where the declination band's edge crosses the plane as breakpoints;
-  - s on a fixed composite Gauss-Legendre grid (panels of 0.1 kpc, 6 nodes);
-  - z by Gauss-Legendre nodes (16 per piece) within 9 H of the mid-plane, the pieces cut
-    at 0, 1.5 H and 4.5 H from the mid-plane (16 nodes give 1e-9 of the layer there) and where the line of constant (s, l) enters or leaves the declination band (the latitudes
-    of A sin b + B cos b = sin(delta_edge), A and B from the celestial pole's Galactic
-    position) and the spheres d = d_min, d = d_max; S(d) is evaluated at each node.
+  - l by scipy.integrate.quad_vec (adaptive, all components at once), over the longitudes
+    not excluded, with the longitudes where the declination band's edge crosses the plane
+    as breakpoints;
+  - s on a fixed composite Gauss-Legendre grid (panels of 0.15 kpc, 6 nodes);
+  - z in pieces cut where the line of constant (s, l) enters or leaves the declination
+    band (the latitudes of A sin b + B cos b = sin(delta_edge), A and B from the celestial
+    pole's Galactic position) and the spheres d = d_min, d = d_max: the layer's share of a
+    piece by scipy.special.ndtr, or, with a completeness term, by Gauss-Legendre nodes with
+    S(d) evaluated at each node (see layer).
 With vertical = "none" the in-plane density is integrated with S(l, 0, s) over
 s in [d_min, d_max].
 
@@ -31,7 +33,7 @@ import sys
 
 import numpy as np
 import scipy
-from scipy import integrate
+from scipy import integrate, special
 
 DEG = math.pi / 180
 
@@ -140,11 +142,19 @@ def in_band(case, l, b):
 
 def layer(case, s, l):
     """Integral over z of N(z + z_sun; 0, H) S(l, b, d) 1[d_min <= d <= d_max] at each
-    plane point (s, l scalar), by Gauss-Legendre pieces."""
+    plane point (s array, l scalar). The line of constant (s, l) is cut where it enters or
+    leaves the band and the spheres d_min, d_max; on each piece the direction term is
+    constant (tested at the piece's midpoint). Without a completeness term the layer's
+    share of a piece is a difference of scipy.special.ndtr; with one, Gauss-Legendre nodes
+    (16 per piece) take S(d) at each node, the pieces further cut at 0, 1.5 H and 4.5 H from
+    the mid-plane (16 nodes give 1e-9 of the layer there)."""
     H, zs = case["scale_height"], case["z_sun"]
     dmin, dmax = case["d_min"], case["d_max"]
-    lo, hi = -zs - 9 * H, -zs + 9 * H
-    edges = [np.full_like(s, -zs + k * H) for k in (-9, -4.5, -1.5, 0, 1.5, 4.5, 9)]
+    complete = bool(case["selection"].get("completeness"))
+    reach = 9 if complete else 20
+    lo, hi = -zs - reach * H, -zs + reach * H
+    ks = (-9, -4.5, -1.5, 0, 1.5, 4.5, 9) if complete else (-20, 20)
+    edges = [np.full_like(s, -zs + k * H) for k in ks]
     for b in band_latitudes(case, np.array([l]))[:, 0]:
         if not math.isnan(b):
             edges.append(s * math.tan(b))
@@ -158,6 +168,10 @@ def layer(case, s, l):
         mid, half = 0.5 * (a + c), 0.5 * (c - a)
         dm = np.hypot(s, mid)
         ok = in_band(case, l, np.arctan2(mid, s)) & (dm >= dmin) & (dm <= dmax) & (half > 0)
+        if not complete:
+            share = special.ndtr((c + zs) / H) - special.ndtr((a + zs) / H)
+            total += np.where(ok, share, 0.0)
+            continue
         z = mid[None, :] + half[None, :] * GL_Z_X[:, None]
         d = np.hypot(s[None, :], z)
         f = np.exp(-0.5 * ((z + zs) / H) ** 2) / (math.sqrt(2 * math.pi) * H) * completeness(case, d)
@@ -170,7 +184,7 @@ def s_grid(case, upto):
     brk = [b for b in brk if b <= upto]
     xs, ws = [], []
     for a, b in zip(brk[:-1], brk[1:]):
-        n = max(1, int(math.ceil((b - a) / 0.1)))
+        n = max(1, int(math.ceil((b - a) / 0.15)))
         edges = np.linspace(a, b, n + 1)
         mid, half = 0.5 * (edges[1:] + edges[:-1]), 0.5 * (edges[1:] - edges[:-1])
         xs.append((mid[:, None] + half[:, None] * GL_S_X[None, :]).ravel())
