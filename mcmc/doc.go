@@ -17,9 +17,11 @@
 // the second against the first; within a half the proposals are evaluated
 // concurrently by Settings.Threads goroutines. Moves sit behind the Move
 // interface: StretchMove (Goodman & Weare 2010), DifferentialMove (ter Braak
-// 2006, Stat. Comput. 16, 239) and WalkMove (Goodman & Weare 2010), and the
+// 2006, Stat. Comput. 16, 239) and WalkMove (Goodman & Weare 2010), the
 // ensemble slice moves DifferentialSliceMove and GaussianSliceMove (Karamanis
-// & Beutler 2021, Stat. Comput. 31, 61), mixed by weight; the move of each
+// & Beutler 2021, Stat. Comput. 31, 61), and IndependenceMove (independence
+// Metropolis–Hastings from a Student t fitted to the other half of the
+// ensemble, Tierney 1994, Ann. Stat. 22, 1701), mixed by weight; the move of each
 // step is drawn from a random stream of its own. A slice update costs a
 // variable number of evaluations, made one after another by the walker's
 // own worker: a walker's update depends only on its own stream, its own

@@ -418,3 +418,166 @@ func checkSlice(name string, width float64, steps int) error {
 	}
 	return nil
 }
+
+// IndependenceMove is an independence Metropolis–Hastings proposal (Tierney
+// 1994, Ann. Stat. 22, 1701, §2.3.3) fitted to the other half of the
+// ensemble: the proposal Y is drawn, whatever the walker's position X, from
+// the multivariate Student t density q with DOF degrees of freedom, centred
+// on the mean X̄_S of the other half S, whose scale matrix is Scale² times
+// the sample covariance C_S (divisor |S| − 1) of that half, and it is
+// accepted with probability min(1, p(Y) q(X) / (p(X) q(Y))). Since q depends
+// only on the other half, which stands still while a half moves, each
+// update leaves the target invariant, by the same argument as for the
+// stretch move (Goodman & Weare 2010, §3).
+//
+// The move jumps across the whole posterior in one step when the posterior
+// is close to the ensemble's t density, and is rejected almost always when
+// it is not (far tails, several modes, strong curvature); mix it with a
+// local move such as DifferentialMove. C_S must be of full rank, which needs
+// more walkers in each half than parameters, and is estimated well only
+// with several times as many. When C_S is not positive definite the
+// proposal is the current point with a log-factor of −∞, that is rejected.
+type IndependenceMove struct {
+	// Scale multiplies the spread of the proposal, > 0; zero means 1.
+	Scale float64
+	// DOF is the number of degrees of freedom ν ≥ 1 of the Student t; zero
+	// means 5, whose tails are heavier than a Gaussian's so that walkers in
+	// the posterior's tails are still proposed.
+	DOF int
+}
+
+func (m IndependenceMove) scale() float64 {
+	if m.Scale == 0 {
+		return 1
+	}
+	return m.Scale
+}
+
+func (m IndependenceMove) dof() int {
+	if m.DOF == 0 {
+		return 5
+	}
+	return m.DOF
+}
+
+// independenceScratch holds the work space of one IndependenceMove proposal:
+// the mean, the Cholesky factor (row-major, lower triangle) and a vector.
+type independenceScratch struct{ mean, chol, v []float64 }
+
+var independencePool = sync.Pool{New: func() any { return new(independenceScratch) }}
+
+// Propose implements Move.
+func (m IndependenceMove) Propose(y, x []float64, others [][]float64, src *rand.Rand) float64 {
+	d, n := len(x), len(others)
+	w := independencePool.Get().(*independenceScratch)
+	defer independencePool.Put(w)
+	if cap(w.mean) < d {
+		w.mean, w.chol, w.v = make([]float64, d), make([]float64, d*d), make([]float64, d)
+	}
+	mean, l, v := w.mean[:d], w.chol[:d*d], w.v[:d]
+	clear(mean)
+	for _, o := range others {
+		for i := range mean {
+			mean[i] += o[i]
+		}
+	}
+	for i := range mean {
+		mean[i] /= float64(n)
+	}
+	s := m.scale()
+	c := s * s / float64(n-1)
+	for a := range d {
+		for b := 0; b <= a; b++ {
+			var sum float64
+			for _, o := range others {
+				sum += (o[a] - mean[a]) * (o[b] - mean[b])
+			}
+			l[a*d+b] = c * sum
+		}
+	}
+	// The normal deviates are drawn before the factorisation can fail, so
+	// that every proposal takes the same numbers from the walker's stream.
+	nu := m.dof()
+	for i := range v {
+		v[i] = src.NormFloat64()
+	}
+	var chi2 float64
+	for range nu {
+		g := src.NormFloat64()
+		chi2 += g * g
+	}
+	if !choleskyLower(l, d) {
+		copy(y, x)
+		return math.Inf(-1)
+	}
+	// Y = X̄ + √(ν/χ²) L z, whose squared distance in the metric of the
+	// scale matrix is (ν/χ²)|z|².
+	f := math.Sqrt(float64(nu) / chi2)
+	var qy float64
+	for i := range y {
+		var sum float64
+		for j := 0; j <= i; j++ {
+			sum += l[i*d+j] * v[j]
+		}
+		y[i] = mean[i] + f*sum
+		qy += v[i] * v[i]
+	}
+	qy *= f * f
+	// Squared distance of X: solve L r = X − X̄ by forward substitution.
+	var qx float64
+	for i := range d {
+		sum := x[i] - mean[i]
+		for j := 0; j < i; j++ {
+			sum -= l[i*d+j] * v[j]
+		}
+		v[i] = sum / l[i*d+i]
+		qx += v[i] * v[i]
+	}
+	// ln q(X) − ln q(Y) for the t density, ln q = −(ν+d)/2 · ln(1 + r²/ν) + const.
+	e := -0.5 * float64(nu+d)
+	return e * (math.Log1p(qx/float64(nu)) - math.Log1p(qy/float64(nu)))
+}
+
+// choleskyLower factorises the symmetric matrix whose lower triangle is in a
+// (row-major, n×n) in place into its lower Cholesky factor, and reports
+// whether the matrix is positive definite.
+func choleskyLower(a []float64, n int) bool {
+	for j := range n {
+		sum := a[j*n+j]
+		for k := 0; k < j; k++ {
+			sum -= a[j*n+k] * a[j*n+k]
+		}
+		if !(sum > 0) {
+			return false
+		}
+		djj := math.Sqrt(sum)
+		a[j*n+j] = djj
+		for i := j + 1; i < n; i++ {
+			sum := a[i*n+j]
+			for k := 0; k < j; k++ {
+				sum -= a[i*n+k] * a[j*n+k]
+			}
+			a[i*n+j] = sum / djj
+		}
+	}
+	return true
+}
+
+func (m IndependenceMove) check(dim, others int) error {
+	if s := m.scale(); !(s > 0) || math.IsInf(s, 0) {
+		return fmt.Errorf("independence move: scale %v, want a finite positive value", m.Scale)
+	}
+	if m.DOF < 0 {
+		return fmt.Errorf("independence move: %d degrees of freedom, want a positive number", m.DOF)
+	}
+	if others <= dim {
+		return fmt.Errorf("independence move: needs more walkers in each half than the %d parameters, have %d", dim, others)
+	}
+	return nil
+}
+
+// String describes the move and its settings, with defaults filled in.
+func (m IndependenceMove) String() string {
+	return "independence(scale=" + strconv.FormatFloat(m.scale(), 'g', -1, 64) +
+		",dof=" + strconv.Itoa(m.dof()) + ")"
+}

@@ -41,6 +41,24 @@ func TestGaussian20D(t *testing.T) {
 	checkGaussianMoments(t, res.Chain, steps/4, 8, g, 4)
 }
 
+// The independence move mixed with differential evolution leaves the
+// correlated 20-dimensional Gaussian of TestGaussian20D invariant, with 160
+// walkers so that each half's covariance is well determined: moments within
+// 4 standard errors (see checkGaussianMoments). Reference: the target's own
+// moments, exact by construction.
+func TestIndependenceMoveGaussian20D(t *testing.T) {
+	steps := 1500
+	if longTests() {
+		steps = 6000
+	}
+	g := newRotatedGaussian(20, 4, 2)
+	res := mustRun(t, Problem{g.LogDensity, 20}, Start{Center: make([]float64, 20), Scale: g.scales()},
+		&Settings{Seed: 13, Walkers: 160, Steps: steps, Moves: []WeightedMove{
+			{Move: IndependenceMove{}, Weight: 0.7}, {Move: DifferentialMove{}, Weight: 0.3}}})
+	t.Logf("max τ = %.1f steps, acceptance %.2f", maxOf(res.Tau), res.MeanAcceptance())
+	checkGaussianMoments(t, res.Chain, steps/4, 1, g, 4)
+}
+
 func maxOf(x []float64) float64 {
 	m := math.Inf(-1)
 	for _, v := range x {
@@ -174,6 +192,7 @@ func TestMovesLeaveGaussianInvariant(t *testing.T) {
 		StretchMove{}, StretchMove{A: 3},
 		DifferentialMove{}, DifferentialMove{Gamma: 0.5, Jitter: -1, JumpProbability: 0.2},
 		WalkMove{}, WalkMove{Subset: 3},
+		IndependenceMove{}, IndependenceMove{Scale: 1.5, DOF: 1},
 	} {
 		t.Run(describeMove(m), func(t *testing.T) {
 			res := mustRun(t, Problem{g.LogDensity, 3}, Start{Center: make([]float64, 3), Scale: g.scales()},
@@ -201,6 +220,11 @@ func TestMoveWeightsValidated(t *testing.T) {
 		&Settings{Steps: 5, Walkers: 8, Moves: []WeightedMove{{Move: WalkMove{Subset: 5}}}})
 	if err == nil || !strings.Contains(err.Error(), "walk") {
 		t.Errorf("walk subset larger than a half: got %v, want an error", err)
+	}
+	_, err = Run(context.Background(), Problem{g.LogDensity, 2}, Start{Center: []float64{0, 0}, Scale: []float64{1, 1}},
+		&Settings{Steps: 5, Walkers: 4, Moves: []WeightedMove{{Move: IndependenceMove{}}}})
+	if err == nil || !strings.Contains(err.Error(), "independence") {
+		t.Errorf("independence move with 2 walkers per half in 2 dimensions: got %v, want an error", err)
 	}
 }
 

@@ -251,6 +251,9 @@ var moveSets = map[string]func(*Settings){
 	"stretch":      func(s *Settings) { s.Moves = []WeightedMove{{Move: StretchMove{}}} },
 	"differential": func(s *Settings) { s.Moves = []WeightedMove{{Move: DifferentialMove{}}} },
 	"walk":         func(s *Settings) { s.Moves = []WeightedMove{{Move: WalkMove{Subset: 5}}} },
+	"independence": func(s *Settings) {
+		s.Moves = []WeightedMove{{Move: IndependenceMove{}, Weight: 0.7}, {Move: DifferentialMove{}, Weight: 0.3}}
+	},
 	"diff-slice": func(s *Settings) {
 		s.Moves, s.TuneSteps = []WeightedMove{{Move: DifferentialSliceMove{}}}, 25
 	},

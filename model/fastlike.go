@@ -188,7 +188,9 @@ func (L *Likelihood) logLIndexed(st *state, ek int, ns *nodeScratch, lo, hi int,
 			continue
 		}
 		v, ok := L.sourceIndexed(i, st, ek, ns)
-		if !ok {
+		if ok {
+			v -= st.sel.logNorm
+		} else {
 			p, err := st.reference()
 			if err != nil {
 				v = math.NaN()

@@ -213,6 +213,7 @@ type state struct {
 	logFrac                       []float64
 	cross                         []arms.Crossing
 	terms                         []float64 // per-source ln L_i of a shared evaluation
+	sel                           selState  // the selection's normalisation
 
 	// The block of sources one worker evaluates in a shared evaluation, made once per state.
 	block   func(worker, b int)

@@ -37,6 +37,9 @@ func (p *Posterior) logDensityIndexed(x []float64, workers int) float64 {
 	if math.IsNaN(lp) || math.IsInf(lp, -1) {
 		return math.Inf(-1)
 	}
+	if !st.setNormalisation(p.Spec) {
+		return math.Inf(-1)
+	}
 	return lp + p.Like.logLShared(st, ix.errKind, workers)
 }
 

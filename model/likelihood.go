@@ -393,18 +393,20 @@ func (L *Likelihood) nodeValues(i int, p *Params, sc *scratch, memb []float64) {
 	}
 }
 
-// SourceLogL returns ln L_i of source i under p.
+// SourceLogL returns ln L_i of source i under p: its integral, less p.LogNorm when the spec
+// has a selection, so that L_i is a density of the source's data (see Spec.Normalisation).
 func (L *Likelihood) SourceLogL(i int, p *Params) float64 {
 	sc := L.getScratch(L.grids[i].layout.Len(), 0)
 	defer L.pool.Put(sc)
 	L.nodeValues(i, p, sc, nil)
-	return L.grids[i].layout.LogIntegral(sc.vals)
+	return L.grids[i].layout.LogIntegral(sc.vals) - p.LogNorm
 }
 
 // SourceDetail returns ln L_i of source i under p and its membership probabilities
 // P(m | data, p) for the field (m = 0) and each arm, written to memb (length
 // NumComponents). In the parallax mode the memberships are those of the arms' densities
 // under p, as if the mixture were in force: the likelihood itself does not use them.
+// ln L_i is SourceLogL's; the memberships do not depend on the selection's normalisation.
 func (L *Likelihood) SourceDetail(i int, p *Params, memb []float64) float64 {
 	nc := L.Spec.NumComponents()
 	n := L.grids[i].layout.Len()
@@ -412,7 +414,7 @@ func (L *Likelihood) SourceDetail(i int, p *Params, memb []float64) float64 {
 	defer L.pool.Put(sc)
 	if L.Spec.Galaxy {
 		L.nodeValues(i, p, sc, sc.memb)
-		total := L.grids[i].layout.LogIntegral(sc.vals)
+		total := L.grids[i].layout.LogIntegral(sc.vals) - p.LogNorm
 		L.normalise(i, sc.memb, n, nc, memb)
 		return total
 	}
@@ -422,7 +424,7 @@ func (L *Likelihood) SourceDetail(i int, p *Params, memb []float64) float64 {
 	// density times its fraction (equal when absent), as the mixture would.
 	s, g := &L.Sources[i], L.grids[i]
 	gal := *L.Spec
-	gal.Galaxy = true
+	gal.Galaxy, gal.Vertical, gal.Selection = true, false, Selection{}
 	for j, d := range g.d {
 		lk, pr := s.logKinematic(L.Spec, p, d)
 		v := s.logBase(&gal, d) + lk

@@ -18,7 +18,10 @@ import (
 // SciPy's adaptive quad (QUADPACK QAGP) over the whole distance range, cross-checked there by
 // a 64 000-node Gauss–Legendre rule to 1e-6 in ln L (SciPy 1.10.1, NumPy 1.24.2, astropy
 // 5.2.1; see that folder's README). The mock is ~300 invented sources with parallax
-// significance from below 1 to ~100, negative parallaxes and inner-Galaxy sightlines.
+// significance from below 1 to ~100, negative parallaxes and inner-Galaxy sightlines. The
+// vertical variants add the sources' Gaussian layer (scale height and z⊙ drawn with the
+// other parameters, so that many sightlines cross the mid-plane ahead of the Sun) and, at
+// the truth, a completeness in distance.
 //
 // The claims checked are those stated in package model, section Quadrature: every source within 1e-4 in ln L_i at the
 // pilots; at ten parameter sets one posterior spread away, at most 1 in 200
@@ -37,7 +40,11 @@ type refSetup struct {
 	DMax          float64 `json:"distance_max"`
 	StudentNu     float64 `json:"student_nu"`
 	RotationCurve string  `json:"rotation_curve"`
-	Arms          []struct {
+	Selection     struct {
+		HalfDistance float64 `json:"half_distance"`
+		Softness     float64 `json:"softness"`
+	} `json:"selection"`
+	Arms []struct {
 		Name   string     `json:"name"`
 		Ref    float64    `json:"ref_azimuth_deg"`
 		Range  [2]float64 `json:"azimuth_range_deg"`
@@ -63,6 +70,8 @@ func refSpec(t testing.TB, variant string) *Spec {
 	case "parallax_gaussian":
 		galaxy = false
 	}
+	// The layer's variants (gen_likelihood_ref.py, VERTICAL_* and SELECTION).
+	vertical := variant == "vertical_gaussian" || variant == "vertical_selection"
 	em, err := NewErrorModel(kind, su.StudentNu)
 	if err != nil {
 		t.Fatal(err)
@@ -74,6 +83,10 @@ func refSpec(t testing.TB, variant string) *Spec {
 		DiskScale:     su.FieldScale,
 		DMin:          su.DMin, DMax: su.DMax,
 		Errors: em, Galaxy: galaxy, Tol: 1e-4,
+		Vertical: vertical,
+	}
+	if variant == "vertical_selection" {
+		s.Selection = Selection{HalfDistance: su.Selection.HalfDistance, Softness: su.Selection.Softness}
 	}
 	for _, a := range su.Arms {
 		s.Arms = append(s.Arms, NewArmSpec(a.Name, a.Ref, a.Range[0], a.Range[1], a.Kinked))
@@ -152,13 +165,22 @@ func refLikelihood(t testing.TB, variant string, pilotSets []string) (*Likelihoo
 	return L, spec, st
 }
 
+// TestLikelihoodAgainstReference checks the in-plane likelihood (galaxy_gaussian) and the
+// one with the sources' layer (vertical_gaussian, scale height and z⊙ drawn with the other
+// parameters) at every pilot and test set.
 func TestLikelihoodAgainstReference(t *testing.T) {
 	if testing.Short() {
-		t.Skip("lays out 300 sources at 11 pilots")
+		t.Skip("lays out 300 sources at 11 pilots, twice")
 	}
+	for _, variant := range []string{"galaxy_gaussian", "vertical_gaussian"} {
+		t.Run(variant, func(t *testing.T) { likelihoodAgainstReference(t, variant) })
+	}
+}
+
+func likelihoodAgainstReference(t *testing.T, variant string) {
 	ref := readReference(t)
 	var pilotSets, testSets []string
-	for set := range ref["galaxy_gaussian"] {
+	for set := range ref[variant] {
 		switch {
 		case len(set) > 6 && set[:6] == "pilot_":
 			pilotSets = append(pilotSets, set)
@@ -171,13 +193,13 @@ func TestLikelihoodAgainstReference(t *testing.T) {
 	if len(pilotSets) == 0 || len(testSets) == 0 {
 		t.Fatal("reference has no pilot or test sets")
 	}
-	L, spec, st := refLikelihood(t, "galaxy_gaussian", pilotSets)
+	L, spec, st := refLikelihood(t, variant, pilotSets)
 	t.Logf("%d sources; nodes per source: min %d, median %d, max %d (total %d); %d not converged",
 		len(L.Sources), st.MinNodes, st.MedianNodes, st.MaxNodes, st.TotalNodes, len(st.Unconverged))
 
 	check := func(set string, limitAll float64) (over1e3, over1e2, n int, worst, sum float64) {
 		p := refParams(t, spec, set)
-		want := ref["galaxy_gaussian"][set]
+		want := ref[variant][set]
 		for i, s := range L.Sources {
 			w, ok := want[s.Name]
 			if !ok {
@@ -228,11 +250,12 @@ func TestLikelihoodAgainstReference(t *testing.T) {
 	}
 }
 
-// TestErrorModelsAndModesAgainstReference: the tolerant and Student-t error models and the
-// parallax mode at the true parameters, each on quadratures laid out at that set alone.
+// TestErrorModelsAndModesAgainstReference: the tolerant and Student-t error models, the
+// parallax mode and the layer with a survey's completeness at the true parameters, each on
+// quadratures laid out at that set alone.
 func TestErrorModelsAndModesAgainstReference(t *testing.T) {
 	ref := readReference(t)
-	for _, variant := range []string{"galaxy_tolerant", "galaxy_student4", "parallax_gaussian"} {
+	for _, variant := range []string{"galaxy_tolerant", "galaxy_student4", "parallax_gaussian", "vertical_selection"} {
 		want, ok := ref[variant]["truth"]
 		if !ok {
 			t.Errorf("reference has no %s values at the truth", variant)
@@ -242,7 +265,9 @@ func TestErrorModelsAndModesAgainstReference(t *testing.T) {
 		p := refParams(t, spec, "truth")
 		var worst float64
 		for i, s := range L.Sources {
-			d := math.Abs(L.SourceLogL(i, p) - want[s.Name])
+			// The reference is the integral of the numerator; with a selection SourceLogL
+			// subtracts ln Σ f_m Z_m, which has its own reference (testdata/selnorm).
+			d := math.Abs(L.SourceLogL(i, p) + p.LogNorm - want[s.Name])
 			worst = max(worst, d)
 			if d > 1e-4 {
 				t.Errorf("%s: source %s: |ln L − reference| = %.2e, want ≤ 1e-4", variant, s.Name, d)

@@ -120,7 +120,7 @@ func (s *Selection) unseen(l, b float64) string {
 		return "its longitude lies in a range the selection leaves out"
 	case !s.Direction(l, b):
 		_, dec := GalacticToICRS(l/deg, b/deg)
-		return fmt.Sprintf("its declination %.4f° lies outside the selection's band [%g°, %g°]", dec, s.DecMin/deg, s.DecMax/deg)
+		return fmt.Sprintf("its declination %.4f° lies outside the selection's band [%.6g°, %.6g°]", dec, s.DecMin/deg, s.DecMax/deg)
 	}
 	return ""
 }

@@ -43,7 +43,8 @@ type Spec struct {
 	// Vertical puts the sources in a layer of Gaussian profile about the mid-plane, of scale
 	// height ScaleHeight with the Sun at height ZSun (Params): the spatial factor of the
 	// integrand in u = ln d is Σ_m f_m ρ_m(R, β) N(d sin b + z⊙; 0, H) d³ cos b. False is
-	// the in-plane form (d cos b)² Σ_m f_m ρ_m(R, β), with no height parameters.
+	// the in-plane form (d cos b)² Σ_m f_m ρ_m(R, β), with no height parameters. It applies
+	// in the galaxy mode only: the parallax mode's prior is uniform in d.
 	Vertical bool
 	// Selection is the survey's selection function; the zero value selects everything.
 	// Its distance term multiplies each source's integrand.
@@ -119,6 +120,9 @@ type Params struct {
 	// ScaleHeight H (kpc) of the sources' layer and ZSun z⊙ (kpc), the Sun's height above
 	// its mid-plane; zero, and unused, when the spec has no vertical structure.
 	ScaleHeight, ZSun float64
+	// LogNorm is ln Σ_m f_m Z_m, the logarithm of the selected share of the mixture (see
+	// Spec.Normalisation), which every source's ln L_i subtracts; zero without a selection.
+	LogNorm float64
 }
 
 // NewParams builds a parameter set from values by name (the names of the configuration and
@@ -211,6 +215,9 @@ func (s *Spec) NewParams(values map[string]float64) (*Params, error) {
 	}
 	if math.Abs(sum-1) > 1e-6 {
 		return nil, fmt.Errorf("membership fractions sum to %.9g, want 1", sum)
+	}
+	if err := s.setLogNorm(p); err != nil {
+		return nil, err
 	}
 	return p, nil
 }

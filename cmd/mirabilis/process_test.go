@@ -37,7 +37,7 @@ func TestMain(m *testing.M) {
 }
 
 // smallFit writes a mock catalog of 25 sources drawn from the two-armed test galaxy and a
-// fit of it (38 walkers, 40 steps, a checkpoint every 4 steps), and returns the
+// fit of it (40 walkers, 40 steps, a checkpoint every 4 steps), and returns the
 // configuration's path.
 func smallFit(t *testing.T, dir string) string {
 	t.Helper()
@@ -62,7 +62,7 @@ velocity_error = 3
 	if err != nil {
 		t.Fatal(err)
 	}
-	body = append(body, "\n[sampler]\nwalkers = 38\nsteps = 40\nburn = 10\ncheckpoint_every = 4\nseed = 8\nthreads = 1\n"...)
+	body = append(body, "\n[sampler]\nwalkers = 40\nsteps = 40\nburn = 10\ncheckpoint_every = 4\nseed = 8\nthreads = 1\n"...)
 	path := filepath.Join(dir, "fit.toml")
 	os.WriteFile(path, body, 0o644)
 	return path

@@ -242,6 +242,8 @@ Vs = "normal(-3, 10)"            # km/s
 Ws = "normal(0, 10)"             # km/s
 sigma_vir = "uniform(0, 30)"     # km/s
 width_slope = 0                  # a number fixes the parameter
+scale_height = "loguniform(0.005, 0.3)"  # kpc, with vertical = "gaussian"
+z_sun = 0                        # kpc, the Sun's height above the mid-plane
 
 [derived_priors]
 Omega_sun = "normal(29.65, 1.0)" # km/s/kpc, (Theta0 + Vsun)/R0

@@ -76,8 +76,6 @@ azimuth_range = [-60, 110]
 radius = "uniform(8.5, 10.5)"
 ` + tamarisk + `width = "loguniform(0.05, 1)"
 
-[likelihood]
-vertical = "none"
 ` + sampler
 }
 

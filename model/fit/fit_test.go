@@ -237,7 +237,12 @@ func TestRecovery(t *testing.T) {
 		}
 	}
 	// Membership of the arm sources well clear of the other arms.
-	_, truth, err := m.Draw(out.Job.Spec, nil)
+	// Drawn again with the mock's own spec, as setUp drew the catalog.
+	mockSpec, err := SpecFromConfig(m.Config)
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, truth, err := m.Draw(mockSpec, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

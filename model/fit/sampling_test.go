@@ -3,9 +3,11 @@ package fit
 import (
 	"encoding/json"
 	"math"
+	"strings"
 	"testing"
 
 	"github.com/mirabilis-astro/mirabilis/mcmc"
+	"github.com/mirabilis-astro/mirabilis/model"
 )
 
 // The cost of the effective samples follows from the sampler's counts: after 100 tuning
@@ -46,5 +48,43 @@ func TestSamplingCost(t *testing.T) {
 	}
 	if moves, ok := back["moves"].([]any); !ok || len(moves) != 2 {
 		t.Errorf("summary.json moves: %v", back["moves"])
+	}
+}
+
+// TestFractionsOf checks that the summary says what the membership fractions describe: the
+// Galaxy's when the model has a selection (MODEL.md §9: the mixture is over the Galaxy's
+// fractions), the catalog's without one, in the text and in summary.json.
+func TestFractionsOf(t *testing.T) {
+	for _, c := range []struct {
+		spec model.Spec
+		want string
+		text string
+	}{
+		{model.Spec{Galaxy: true}, FractionsOfCatalog, "are the catalog's shares"},
+		{model.Spec{Galaxy: true, Selection: model.Selection{HalfDistance: 12, Softness: 1}}, FractionsOfGalaxy, "are the Galaxy's"},
+		{model.Spec{}, FractionsUnused, ""},
+	} {
+		s := &Summary{FractionsOf: fractionsOf(&c.spec)}
+		if s.FractionsOf != c.want {
+			t.Errorf("fractions of %q, want %q", s.FractionsOf, c.want)
+		}
+		text := s.Text()
+		if c.text != "" && !strings.Contains(text, c.text) {
+			t.Errorf("%s: the text summary does not say %q:\n%s", c.want, c.text, text)
+		}
+		if c.text == "" && strings.Contains(text, "Membership fractions") {
+			t.Errorf("%s: the text summary speaks of fractions it does not use", c.want)
+		}
+		data, err := JSONIndent(s)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var back map[string]any
+		if err := json.Unmarshal(data, &back); err != nil {
+			t.Fatal(err)
+		}
+		if back["fractions_of"] != c.want {
+			t.Errorf("summary.json fractions_of = %v, want %q", back["fractions_of"], c.want)
+		}
 	}
 }

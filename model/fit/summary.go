@@ -104,6 +104,12 @@ type Summary struct {
 	Params     []Quantity `json:"parameters"`
 	Derived    []Quantity `json:"derived"`
 	Components []string   `json:"components"`
+	// FractionsOf says what the membership fractions describe: FractionsOfGalaxy when the
+	// model has a survey selection (each source's density is divided by the selected share
+	// Σ f_m Z_m, so the fractions are the Galaxy's, before selection), FractionsOfCatalog
+	// without one (the shares of the catalog's sources as the survey selected them), or
+	// FractionsUnused in the parallax mode.
+	FractionsOf string `json:"fractions_of"`
 	// DerivedPriors lists the priors put on derived quantities ("Omega_sun ~ normal(…)").
 	// Each multiplies the priors of the parameters it depends on, so that their effective
 	// prior is not the one stated for each.
@@ -230,7 +236,7 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 	}
 	burn = min(max(burn, tune), rows-2) // the tuning steps are never summarised
 	W := chain.Walkers()
-	s := &Summary{Steps: chain.Step(rows - 1), Walkers: W, Burn: burn, Components: components(job.Spec)}
+	s := &Summary{Steps: chain.Step(rows - 1), Walkers: W, Burn: burn, Components: components(job.Spec), FractionsOf: fractionsOf(job.Spec)}
 	if res != nil {
 		s.Status, s.Acceptance, s.TauOK = res.Status.String(), res.MeanAcceptance(), res.TauReliable
 		for _, st := range res.Stuck {
@@ -496,6 +502,35 @@ func meanSD(x []float64) (float64, float64) {
 	return stat.MeanStdDev(x, nil)
 }
 
+// What the membership fractions describe (Summary.FractionsOf).
+const (
+	FractionsOfGalaxy  = "galaxy"
+	FractionsOfCatalog = "catalog"
+	FractionsUnused    = "unused"
+)
+
+// fractionsOf says what the membership fractions of spec describe.
+func fractionsOf(spec *model.Spec) string {
+	switch {
+	case !spec.Galaxy:
+		return FractionsUnused
+	case spec.Selection.Active():
+		return FractionsOfGalaxy
+	}
+	return FractionsOfCatalog
+}
+
+// fractionsNote is the sentence of the text summary that says what the fractions describe.
+func fractionsNote(of string) string {
+	switch of {
+	case FractionsOfGalaxy:
+		return "Membership fractions f_… are the Galaxy's: the survey's selection is divided out, so they describe the sources before selection, not the catalog's shares."
+	case FractionsOfCatalog:
+		return "Membership fractions f_… are the catalog's shares: with no [selection] table they describe the sources as the survey selected them, not the Galaxy."
+	}
+	return ""
+}
+
 // Text renders the summary for reading.
 func (s *Summary) Text() string {
 	var b bytes.Buffer
@@ -560,6 +595,10 @@ func (s *Summary) Text() string {
 		fmt.Fprintln(&b)
 	}
 	table("Parameters", s.Params)
+	if note := fractionsNote(s.FractionsOf); note != "" {
+		fmt.Fprintln(&b, note)
+		fmt.Fprintln(&b)
+	}
 	table("Derived quantities", s.Derived)
 	counts := make([]int, len(s.Components))
 	for _, r := range s.Sources {

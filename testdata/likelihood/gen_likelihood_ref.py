@@ -29,16 +29,33 @@ What this script does
          nodes, panel width 1.6e-3 in u), the feature points added as edges.
    The quad value is written to reference.csv; the script stops with an error
    if any value from (a) and (b) disagree by more than 1e-6 in log L.
-   Variants: galaxy_gaussian at every set; at the truth also galaxy_tolerant,
-   galaxy_student4 and parallax_gaussian (distance prior uniform in d).
+   Variants: galaxy_gaussian at every set, vertical_gaussian at the truth, the
+   pilots and test_00..test_04; at the truth also galaxy_tolerant,
+   galaxy_student4, parallax_gaussian (distance prior uniform in d) and
+   vertical_selection.
+6. The vertical variants (package model's "Vertical structure and survey
+   selection") put the sources in a Gaussian layer: the spatial factor in u
+   becomes sum_m f_m rho_m(R, beta) N(d sin b + z_sun; 0, H) d^3 cos b instead
+   of (d cos b)^2 sum_m f_m rho_m(R, beta); vertical_selection multiplies it by
+   the survey's completeness S(d) = 1 / (1 + exp((d - D) / s)) with D and s of
+   SELECTION. H (scale_height) and z_sun are drawn for the pilot and test sets
+   with their own seed (VERTICAL_SEED) and appended to each parameter file, so
+   that the other parameters' draws are those of the in-plane reference.
 
 Rerunning it reproduces every file in this folder byte for byte (fixed seeds,
 fixed formatting), given the same library versions.
 
 Run with: numpy 1.24.2, scipy 1.10.1, astropy 5.2.1 (Debian python3 packages),
-Python 3.11.2; 5 to 10 minutes on 2 cores (7500 integrals, each done twice).
+Python 3.11.2; with --all 10 to 25 minutes on 2 cores (12 900 integrals, each done
+twice), without it about half of that.
 
-Usage: /usr/bin/python3 gen_likelihood_ref.py   (writes into its own folder)
+Usage: /usr/bin/python3 gen_likelihood_ref.py [--all]   (writes into its own folder)
+
+Without --all, the rows of the in-plane variants (galaxy_*, parallax_*) are
+taken from the reference.csv already in the folder, whose mock and parameter
+values they were computed from are unchanged, and one row in REUSE_CHECK of them
+is recomputed and must reproduce the written value digit for digit; --all
+recomputes every row.
 """
 
 import csv
@@ -127,6 +144,14 @@ PILOT_SPREADS["f_field"] = 0.03
 for _a in ARMS:
     PILOT_SPREADS["f_" + _a["name"]] = 0.03
 
+# The sources' layer: the mock's heights are drawn with this scale height and the
+# Sun in the mid-plane (make_mock); pilot and test sets scatter both.
+VERTICAL_TRUTH = {"scale_height": 0.03, "z_sun": 0.0}
+VERTICAL_SPREADS = {"scale_height": 0.006, "z_sun": 0.01}
+VERTICAL_SEED = 3303
+# The survey completeness of vertical_selection (kpc).
+SELECTION = {"half_distance": 10.0, "softness": 1.5}
+
 MOCK_SEED = 20240611
 PILOT_SEED = 1101
 TEST_SEED = 2202
@@ -141,6 +166,9 @@ QUAD_LIMIT = 2000
 QUAD_EPSREL = 1e-10
 PEAK_FLOOR = 40.0        # break points only where log f > max - 40
 MAX_DISAGREEMENT = 1e-6
+REUSE_CHECK = 25         # without --all, recompute one reused in-plane row in 25
+# The vertical_gaussian variant's test sets (all eleven pilot sets are used).
+N_VERTICAL_TESTS = 5
 
 LN2PI_HALF = 0.5 * math.log(2.0 * math.pi)
 
@@ -474,7 +502,16 @@ def log_integrand(src, u, params, variant, geo=None):
         return tot, [("prior", tot)]
     if geo is None:
         geo = arm_geometry(params)
-    jac = 2.0 * (u + math.log(src["cb"]))
+    if mode == "galaxy":
+        jac = 2.0 * (u + math.log(src["cb"]))
+    else:
+        # Volume element d^3 cos b in u = ln d, times the layer's density at
+        # the height z = d sin b + z_sun.
+        H = params["scale_height"]
+        z = d * src["sb"] + params["z_sun"]
+        jac = 3.0 * u + math.log(src["cb"]) - 0.5 * (z / H) ** 2 - math.log(H) - LN2PI_HALF
+        if mode == "vertical_selection":
+            jac = jac + log_logistic((SELECTION["half_distance"] - d) / SELECTION["softness"])
     parts = []
     label = src["arm"]
     if label is None:
@@ -514,6 +551,11 @@ def scalar_log_integrand_factory(src, params, variant):
     plx_c = -math.log(plx_err) - LN2PI_HALF
     cb, cl, sl = src["cb"], src["cl"], src["sl"]
     lncb2 = 2.0 * math.log(cb)
+    sb = src["sb"]
+    if mode != "galaxy" and mode != "parallax":
+        H, zsun = params["scale_height"], params["z_sun"]
+        layer_c = math.log(cb) - math.log(H) - LN2PI_HALF
+    sel_D, sel_s = SELECTION["half_distance"], SELECTION["softness"]
     terms = [(t["kind"] == "pm", t["e"][0], t["e"][1], t["e"][2], t["offset"], t["obs"],
               t["err"] ** 2) for t in src["terms"]]
     h = SETTINGS["field_scale_length"]
@@ -601,7 +643,13 @@ def scalar_log_integrand_factory(src, params, variant):
                 base += err_logp(obs - proj - off, e2 + s2int)
         if mode == "parallax":
             return base + u + log_prior_c
-        common = base + 2.0 * u + lncb2
+        if mode == "galaxy":
+            common = base + 2.0 * u + lncb2
+        else:
+            zz = (d * sb + zsun) / H
+            common = base + 3.0 * u + layer_c - 0.5 * zz * zz
+            if mode == "vertical_selection":
+                common += lls((sel_D - d) / sel_s)
         vals = []
         if use_field:
             vals.append(common + log_ff - R / h + log_field_c)
@@ -618,6 +666,8 @@ VARIANTS = {
     "galaxy_tolerant": ("galaxy", "tolerant"),
     "galaxy_student4": ("galaxy", "student"),
     "parallax_gaussian": ("parallax", "gaussian"),
+    "vertical_gaussian": ("vertical", "gaussian"),
+    "vertical_selection": ("vertical_selection", "gaussian"),
 }
 
 # ---------------------------------------------------------------------------
@@ -797,7 +847,7 @@ def read_mock(path, v_std):
         srcs.append({
             "name": get("name"), "l": l, "b": b,
             "cl": math.cos(math.radians(l)), "sl": math.sin(math.radians(l)),
-            "cb": math.cos(math.radians(b)),
+            "cb": math.cos(math.radians(b)), "sb": math.sin(math.radians(b)),
             "plx": float(get("parallax")), "plx_err": float(get("parallax_err")),
             "terms": terms, "arm": None if arm in ("", "?") else arm,
         })
@@ -849,6 +899,18 @@ def draw_sets(seed, n):
     return sets
 
 
+def add_vertical(sets, seed):
+    """Append scale_height and z_sun to each set: normal draws around
+    VERTICAL_TRUTH with VERTICAL_SPREADS (scale_height kept above 5 pc), from
+    their own seed so that the other parameters are untouched."""
+    rng = np.random.default_rng(seed)
+    for p in sets:
+        h = VERTICAL_TRUTH["scale_height"] + rng.normal(0.0, VERTICAL_SPREADS["scale_height"])
+        p["scale_height"] = round(max(h, 0.005), 6)
+        p["z_sun"] = round(VERTICAL_TRUTH["z_sun"] + rng.normal(0.0, VERTICAL_SPREADS["z_sun"]), 6)
+    return sets
+
+
 def write_json(path, obj):
     with open(path, "w") as fh:
         json.dump(obj, fh, indent=2)
@@ -893,7 +955,7 @@ def azimuth_crossings(src, R0, bt):
     return out
 
 
-def feature_points(src, params):
+def feature_points(src, params, variant="galaxy_gaussian"):
     """Distances where the integrand has a kink or a jump, as u = ln d.
 
     The rotation curve bends at R_core; an arm width meets its floor of
@@ -911,6 +973,11 @@ def feature_points(src, params):
                 pts += radius_crossings(src, R0, Rt)
         if a["kinked"]:
             pts += azimuth_crossings(src, R0, math.radians(params[a["name"] + "_kink"]))
+    if VARIANTS[variant][0].startswith("vertical") and src["sb"] != 0.0:
+        # The layer's density peaks where the sightline crosses the mid-plane.
+        d0 = -params["z_sun"] / src["sb"]
+        if SETTINGS["distance_min"] < d0 < SETTINGS["distance_max"]:
+            pts.append(math.log(d0))
     return sorted(pts)
 
 
@@ -934,7 +1001,7 @@ def local_maxima(u, y, floor):
 def integrate_source(args):
     """log L_i by quad and by dense Gauss-Legendre; returns (quad, gl, npoints)."""
     src, params, variant = args
-    kinks = feature_points(src, params)
+    kinks = feature_points(src, params, variant)
     x, w = gl_nodes(kinks)
     tot, parts = log_integrand(src, x, params, variant)
     gmax = float(tot.max())
@@ -1034,16 +1101,26 @@ def main():
             "galaxy_student4": "distance_prior galaxy, student error model, nu = 4",
             "parallax_gaussian": ("distance_prior parallax (uniform in d on "
                                   "[distance_min, distance_max]), gaussian error model"),
+            "vertical_gaussian": ("distance_prior galaxy, vertical gaussian: the layer "
+                                  "N(d sin b + z_sun; 0, scale_height), volume element "
+                                  "d^3 cos b; gaussian error model"),
+            "vertical_selection": ("vertical_gaussian times the completeness "
+                                   "1 / (1 + exp((d - half_distance) / softness))"),
         },
+        "vertical_truth": VERTICAL_TRUTH,
+        "vertical_spreads": VERTICAL_SPREADS,
+        "vertical_seed": VERTICAL_SEED,
+        "selection": SELECTION,
     }
     write_json(os.path.join(HERE, "setup.json"), setup)
 
     recs, truths = make_mock(v_std)
     write_mock(os.path.join(HERE, "mock.csv"), recs)
     truth = {k: TRUTH[k] for k in PARAM_ORDER}
+    truth.update(VERTICAL_TRUTH)
     write_json(os.path.join(HERE, "params_truth.json"), truth)
-    pilots = [truth] + draw_sets(PILOT_SEED, N_DRAWS)
-    tests = draw_sets(TEST_SEED, N_DRAWS)
+    pilots = [truth] + add_vertical(draw_sets(PILOT_SEED, N_DRAWS), VERTICAL_SEED)
+    tests = add_vertical(draw_sets(TEST_SEED, N_DRAWS), VERTICAL_SEED + 1)
     for j, p in enumerate(pilots):
         write_json(os.path.join(HERE, "params_pilot_%02d.json" % j), p)
     for j, p in enumerate(tests):
@@ -1088,11 +1165,45 @@ def main():
         variants = ["galaxy_gaussian"]
         if set_name == "truth":
             variants += ["galaxy_tolerant", "galaxy_student4", "parallax_gaussian"]
+        if not set_name.startswith("test_") or int(set_name[5:]) < N_VERTICAL_TESTS:
+            variants += ["vertical_gaussian"]
+        if set_name == "truth":
+            variants += ["vertical_selection"]
         for v in variants:
             for s in srcs:
                 jobs.append((set_name, v, s, p))
+    # Rows of the in-plane variants from the existing file (see the usage above).
+    old = {}
+    old_path = os.path.join(HERE, "reference.csv")
+    if "--all" not in sys.argv[1:] and os.path.exists(old_path):
+        with open(old_path) as fh:
+            for row in csv.reader(ln for ln in fh if not ln.startswith("#")):
+                if row[0] != "set" and not row[1].startswith("vertical"):
+                    old[(row[0], row[1], row[2])] = row[3]
+    todo, checked = [], 0
+    for k, (set_name, v, s, p) in enumerate(jobs):
+        key = (set_name, v, s["name"])
+        if key not in old:
+            todo.append(k)
+        elif checked % REUSE_CHECK == 0:
+            todo.append(k)
+            checked += 1
+        else:
+            checked += 1
+    print("integrals to compute: %d of %d rows (%d reused)" % (len(todo), len(jobs), len(jobs) - len(todo)))
     with multiprocessing.Pool(2) as pool:
-        res = pool.map(integrate_source, [(s, p, v) for (_, v, s, p) in jobs], chunksize=20)
+        done = pool.map(integrate_source, [(jobs[k][2], jobs[k][3], jobs[k][1]) for k in todo], chunksize=20)
+    res = [None] * len(jobs)
+    for k, r in zip(todo, done):
+        res[k] = r
+    for k, (set_name, v, s, _) in enumerate(jobs):
+        key = (set_name, v, s["name"])
+        if key in old:
+            if res[k] is not None and "%.12g" % res[k][0] != old[key]:
+                sys.exit("reused row %s: recomputed %.12g, file %s" % (key, res[k][0], old[key]))
+            if res[k] is None:
+                lq = float(old[key])
+                res[k] = (lq, lq, 0, 0.0)
     worst = 0.0
     worst_at = None
     maxpts = 0
