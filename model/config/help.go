@@ -201,10 +201,11 @@ TOP LEVEL
     Banana (the tests' curved 2-D density), 32 walkers, 170 to 370 τ:
     stretch 5.7, mix 12.3, differential_evolution alone 10.2,
     differential_slice 4.6, adaptive 11.2.
-    The demo (150 sources, 26 dimensions, 56 walkers), chains of 1.5 to
-    8 τ only, so τ is underestimated: stretch 3.4 (1.5 τ), mix 5.5 (962
-    steps), adaptive 4.7 over the same 962 steps and 4.5 over 1992 steps
-    (8 τ; weights adapted to 0.95 differential evolution).
+    The demo (150 sources, 26 dimensions, 56 walkers): mix 4.1 over 39 τ,
+    stretch 0.9 and differential_slice 1.7 over 4 τ; 112 and 208 walkers
+    lift the mix to 5.1 and 5.6, but a run that stops on its own (20 τ)
+    then needs more evaluations. Nothing measured reached three times the
+    mix (DEVELOPERS.md, "Sampler efficiency").
   A slice update costs about 5 evaluations but brings τ in steps only to
   0.4-0.65 of differential evolution's, so the slice moves cost more per
   effective sample than differential evolution on these targets; they remain for
