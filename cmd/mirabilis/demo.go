@@ -27,8 +27,11 @@ var demoCommand = &command{
 	Long: `Demo runs the whole job with no input of yours. It writes the built-in demo galaxy —
 an invented four-armed spiral with arms named Corvid, Lantern, Tamarisk and Halcyon —
 and a fit configuration into DIR, draws a mock catalog of 150 sources from the galaxy
-("mirabilis simulate"), fits it ("mirabilis fit"), prints the posterior summary next
-to the true values, and writes the figures.
+as an invented survey sees it — the sky north of declination −30°, with sources
+beyond about 12 kpc found ever less often ("mirabilis simulate") — fits it with that
+selection ("mirabilis fit"), prints the posterior summary next to the true values
+(the fractions are the Galaxy's; the catalog's shares are in sources-truth.csv), and
+writes the figures.
 
 DIR (default "mirabilis-demo") then holds galaxy.toml (the model with its true
 values and the mock survey), demo-fit.toml (the fit's configuration, priors and
