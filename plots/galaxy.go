@@ -322,19 +322,23 @@ func (a ArmBands) DataRange() (xmin, xmax, ymin, ymax float64) {
 	return r.get()
 }
 
+// canvasPoints returns the finite points of ps on the canvas whose data-to-canvas
+// transforms are trX and trY.
+func canvasPoints(ps []Polar, trX, trY func(float64) vg.Length) []vg.Point {
+	out := make([]vg.Point, 0, len(ps))
+	for _, q := range ps {
+		if q.finite() {
+			x, y := q.XY()
+			out = append(out, vg.Point{X: trX(x), Y: trY(y)})
+		}
+	}
+	return out
+}
+
 // Plot implements plot.Plotter.
 func (a ArmBands) Plot(c draw.Canvas, p *plot.Plot) {
 	trX, trY := p.Transforms(&c)
-	toPts := func(ps []Polar) []vg.Point {
-		out := make([]vg.Point, 0, len(ps))
-		for _, q := range ps {
-			if q.finite() {
-				x, y := q.XY()
-				out = append(out, vg.Point{X: trX(x), Y: trY(y)})
-			}
-		}
-		return out
-	}
+	toPts := func(ps []Polar) []vg.Point { return canvasPoints(ps, trX, trY) }
 	alpha := a.BandAlpha
 	if alpha <= 0 {
 		alpha = 0.16

@@ -29,16 +29,7 @@ func (s CentreSpread) any() bool {
 // Plot implements plot.Plotter.
 func (s CentreSpread) Plot(c draw.Canvas, p *plot.Plot) {
 	trX, trY := p.Transforms(&c)
-	toPts := func(ps []Polar) []vg.Point {
-		out := make([]vg.Point, 0, len(ps))
-		for _, q := range ps {
-			if q.finite() {
-				x, y := q.XY()
-				out = append(out, vg.Point{X: trX(x), Y: trY(y)})
-			}
-		}
-		return out
-	}
+	toPts := func(ps []Polar) []vg.Point { return canvasPoints(ps, trX, trY) }
 	for i, t := range s.Arms {
 		lo, hi := toPts(t.CentreLo), toPts(t.CentreHi)
 		if len(lo) < 2 || len(hi) < 2 {
