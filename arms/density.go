@@ -88,7 +88,9 @@ type armConst struct {
 	w0         float64 // width at R0
 	lnZ        float64 // ln of the end factor's integral
 	norm       float64 // 1/(√(2π) Z): the constant factor of the linear density
-	fast       windingSteps
+	// edgeSpan is exp(−Δβ/τ), Δβ = end − start: the product e^−u e^−v of the two end
+	// factors' exponentials (u + v = Δβ/τ), so that one exponential gives both.
+	edgeSpan float64
 }
 
 // Density evaluates the logarithms of the field and arm densities of one Layout, with all
@@ -143,7 +145,7 @@ func (d *Density) Reset(l Layout) error {
 			lnZ:   logEdgeNorm(a.BetaEnd-a.BetaStart, tau),
 		}
 		d.arms[k].norm = math.Exp(-halfLn2Pi - d.arms[k].lnZ)
-		d.arms[k].fast = newWindingSteps(&d.arms[k].curve, a.BetaEnd-a.BetaStart, tau)
+		d.arms[k].edgeSpan = math.Exp(-(a.BetaEnd - a.BetaStart) / tau)
 	}
 	d.r0 = l.R0
 	d.slope = l.WidthSlope

@@ -21,10 +21,11 @@ func (ns *nodeScratch) size(n int) ([]float64, []float64) {
 
 // sourceIndexed returns ln L_i of source i under the parameter set of st, from the grid's
 // per-node arrays, with one exponential per node for the quadrature sum: the spatial
-// mixture and the kinematic normalisation are kept as plain numbers l_j, the rest in the
-// log a_j, and ln L_i = max a + ln Σ l_j exp(a_j − max a). It returns ok = false, leaving
-// the source to the reference path, where a plain number underflows (a mixture density
-// below 1e-300, or a sum below 1e-280) or the sum is not finite.
+// mixture relative to the field's term (arms.Mixer) and the kinematic normalisation are
+// kept as plain numbers l_j, the rest (with the field's log-density) in the log a_j, and
+// ln L_i = max a + ln Σ l_j exp(a_j − max a). It returns ok = false, leaving the source to
+// the reference path, where a plain number underflows (a mixture below 1e-300 where the
+// field is not factored out, or a sum below 1e-280) or the sum is not finite.
 func (L *Likelihood) sourceIndexed(i int, st *state, ek int, ns *nodeScratch) (float64, bool) {
 	s, g, spec := &L.Sources[i], L.grids[i], L.Spec
 	a, lin := ns.size(len(g.d))
@@ -133,10 +134,11 @@ func (L *Likelihood) sourceIndexed(i int, st *state, ek int, ns *nodeScratch) (f
 		if galaxy {
 			beta := math.Atan2(sb, cb)
 			if label == 0 {
-				sp := st.density.Mixture(st.frac, R, beta)
+				lf, sp := st.mix.At(R, beta)
 				if !(sp > 1e-300) {
 					return 0, false
 				}
+				aj += lf
 				lj *= sp
 			} else {
 				aj += st.density.LogArm(label-1, R, beta) + st.logFrac[label]

@@ -209,6 +209,7 @@ type state struct {
 	scaleHeight, zSun, layerConst float64
 	layout                        arms.Layout
 	density                       arms.Density
+	mix                           arms.Mixer // the mixture of density with fractions frac
 	frac                          []float64
 	logFrac                       []float64
 	cross                         []arms.Crossing
@@ -309,6 +310,7 @@ func (ix *indexed) set(st *state, spec *Spec, x []float64, nFree int) bool {
 	for k, f := range st.frac {
 		st.logFrac[k] = math.Log(f)
 	}
+	st.mix.Reset(&st.density, st.frac)
 	st.x = x
 	return true
 }
