@@ -59,13 +59,17 @@ const (
 	maxOuterSplits = 400
 	// sunReach is the distance (kpc) from the Sun within which a radial line gets
 	// breakpoints graded toward its nearest point to the Sun.
-	sunReach = 2.0
+	sunReach = 1.0
 	// tailReach is how far beyond an arm's ends, in units of the end softening τ, its
 	// azimuth integral runs.
 	tailReach = 16.0
 	// layerReach is how far from the mid-plane, in scale heights, the layer is integrated:
 	// its share beyond is 1e-19.
 	layerReach = 9.0
+	// bandReach is how far from the mid-plane, in scale heights, a band edge is looked for
+	// above a plane point: beyond it the layer's share is 4e-11, and a point whose edge lies
+	// farther is taken as wholly in or wholly out of the band.
+	bandReach = 6.5
 )
 
 // grading are the offsets, in units of a transition's scale, of the breakpoints placed on
@@ -73,12 +77,13 @@ const (
 var grading = [...]float64{2, 6}
 
 // armPiece and fieldPiece are the longest pieces across, in widths w/cos ψ of the arm and in
-// scale lengths h of the field disk.
-const armPiece, fieldPiece = 2.0, 2.0
+// scale lengths h of the field disk; softPiece is the field's longest piece in units of the
+// completeness's softness.
+const armPiece, fieldPiece, softPiece = 2.0, 3.0, 4.0
 
 var (
 	glX, glW   = gaussLegendre(4) // across, on each piece (and near the Sun, in height)
-	ghX, ghW   = gaussHermite(8)  // across an arm without breakpoints
+	ghX, ghW   = gaussHermite(6)  // across an arm without breakpoints
 	kx, kw, kg = quad.UnitRule()  // along
 )
 
@@ -169,19 +174,26 @@ type normaliser struct {
 	excl         [][4]float64 // excluded longitudes: cos, sin of either edge (start, end)
 	exclWide     []bool       // whether the range is wider than π
 	rays         [][2]float64 // cos l, sin l of every exclusion edge
+	farEdges     []float64    // azimuths β = π − l of the edges' longitudes l (exclusions, band at b = 0)
 	dmin, dmax   float64
 	compl        bool
 	half, soft   float64
+	invSoft      float64 // 1/soft
 	vertical     bool
 
 	r0, h, zsun float64
 	tol         float64
 	dens        *arms.Density
 	invScale    float64 // 1/h of the field disk
+	m2          float64 // H² + z⊙², the layer's second moment about the Sun's height
+	nearK       float64 // 3 m2²/8: the bound on S's expansion in z² is |S′|(1/soft + 1/s) nearK/s²
+	bandMargin  float64 // 1.01 bandReach H: how far in sin δ, times s, a band edge is looked for
+	reach2      float64 // (|z⊙| + layerReach H)²: the layer's reach from the Sun's height, squared
 	slope       float64
 
 	cuts []cut
 	pts  []float64
+	brk  []float64
 	todo []span
 
 	// points counts the plane points at which the layer's share was computed.
@@ -215,8 +227,39 @@ func newNormaliser(sel Selection, vertical bool, dmin, dmax float64) *normaliser
 	}
 	if sel.HalfDistance > 0 {
 		n.compl, n.half, n.soft = true, sel.HalfDistance, sel.Softness
+		n.invSoft = 1 / sel.Softness
 	}
+	n.setFarEdges(sel)
 	return n
+}
+
+// setFarEdges lists the azimuths at which a radial line from the Galactic centre runs
+// parallel to an edge of the selection in the plane: an excluded range's edge at longitude l
+// or a longitude where the band's edge crosses b = 0. There the line meets the edge ever
+// farther out, and the field's line integral changes steeply with β (over about
+// sin l / h radians when the edge passes near the centre): the outer integral breaks there.
+// The line at β runs toward longitude l = π − β.
+func (n *normaliser) setFarEdges(sel Selection) {
+	add := func(l float64) {
+		b := math.Remainder(math.Pi-l, 2*math.Pi)
+		n.farEdges = append(n.farEdges, b)
+	}
+	for _, e := range sel.ExcludeL {
+		add(e[0])
+		add(e[1])
+	}
+	// At b = 0, sin δ = p_x cos l + p_y sin l = ρ cos(l − l_p).
+	rho, lp := math.Hypot(n.px, n.py), math.Atan2(n.py, n.px)
+	for _, cut := range [2]struct {
+		on bool
+		a  float64
+	}{{n.cutLo, n.sinLo}, {n.cutHi, n.sinHi}} {
+		if cut.on && math.Abs(cut.a) < rho {
+			c := math.Acos(cut.a / rho)
+			add(lp + c)
+			add(lp - c)
+		}
+	}
 }
 
 // completeness returns S(d) and dS/dd at distance d (kpc).
@@ -224,9 +267,9 @@ func (n *normaliser) completeness(d float64) (s, ds float64) {
 	if !n.compl {
 		return 1, 0
 	}
-	e := fastexp.Exp((d - n.half) / n.soft)
+	e := fastexp.Exp((d - n.half) * n.invSoft)
 	s = 1 / (1 + e)
-	return s, -s * (1 - s) / n.soft
+	return s, -s * (1 - s) * n.invSoft
 }
 
 // excluded reports whether the direction of the plane point (x, y) lies in an excluded
@@ -335,8 +378,20 @@ func (n *normaliser) band(P, s float64, iv *[3][2]float64) int {
 	return k
 }
 
-// stdNormalUpper returns Q(u) = 1 − Φ(u).
-func stdNormalUpper(u float64) float64 { return 0.5 * math.Erfc(u/math.Sqrt2) }
+// stdNormalUpper returns Q(u) = 1 − Φ(u) = erfc(u/√2)/2 by the Chebyshev fit to erfc of
+// Press et al. (Numerical Recipes in C, 2nd ed. 1992, §6.2, erfcc), good to 1.2e-7 of
+// erfc everywhere, with one exponential where math.Erfc takes two: the layer's share needs
+// 1e-7, not the last place.
+func stdNormalUpper(u float64) float64 {
+	z := math.Abs(u) * (1 / math.Sqrt2)
+	t := 1 / (1 + 0.5*z)
+	r := t * fastexp.Exp(-z*z-1.26551223+t*(1.00002368+t*(0.37409196+t*(0.09678418+
+		t*(-0.18628806+t*(0.27886807+t*(-1.13520398+t*(1.48851587+t*(-0.82215223+t*0.17087277)))))))))
+	if u < 0 {
+		return 1 - 0.5*r
+	}
+	return 0.5 * r
+}
 
 // layerShare returns, for heights z (relative to the Sun) in [a, b], the layer's share
 // ∫ N(z + z⊙; 0, H) dz and its second moment ∫ z² N(z + z⊙; 0, H) dz (the latter only
@@ -418,8 +473,9 @@ func (n *normaliser) visible(x, y float64) float64 {
 		return 0
 	}
 	P := n.px*x + n.py*y
+	inv := 1 / s
 	if !n.vertical {
-		f := P / s
+		f := P * inv
 		if (n.cutLo && f < n.sinLo) || (n.cutHi && f > n.sinHi) {
 			return 0
 		}
@@ -430,12 +486,14 @@ func (n *normaliser) visible(x, y float64) float64 {
 	k := 1
 	iv[0] = [2]float64{math.Inf(-1), math.Inf(1)}
 	if n.cutLo || n.cutHi {
-		// Within layerReach·H of the mid-plane the latitude moves by at most layerReach·H/s
+		// Within bandReach·H of the mid-plane the latitude moves by at most bandReach·H/s
 		// and sin δ by no more: a band edge farther than that in sin δ leaves the layer
 		// wholly in or wholly out.
-		zm := -n.zsun
-		fm := (P + n.pz*zm) / math.Sqrt(s2+zm*zm)
-		margin := 1.01 * layerReach * n.h / s
+		fm := P * inv
+		if n.zsun != 0 {
+			fm = (P - n.pz*n.zsun) / math.Sqrt(s2+n.zsun*n.zsun)
+		}
+		margin := n.bandMargin * inv
 		if (!n.cutLo || math.Abs(fm-n.sinLo) > margin) && (!n.cutHi || math.Abs(fm-n.sinHi) > margin) {
 			if (n.cutLo && fm < n.sinLo) || (n.cutHi && fm > n.sinHi) {
 				return 0
@@ -444,55 +502,71 @@ func (n *normaliser) visible(x, y float64) float64 {
 			k = n.band(P, s, &iv)
 		}
 	}
+	lc := layerCall{s: s, s0: 1}
+	if n.compl {
+		// S(√(s² + z²)) to second order in z² is good to (S″/2)(z²/2s)², below 1e-5 of S
+		// unless the layer is thick against s; there the nodes take S itself.
+		lc.s0, lc.ds = n.completeness(s)
+		lc.near = n.m2*0.5*inv > 0.3*n.soft || -lc.ds*(n.invSoft+inv)*n.nearK*inv*inv > 1e-5*lc.s0
+		lc.second = !lc.near
+	}
+	// The common case: the whole layer is seen, out to layerReach·H from the mid-plane.
+	if k == 1 && s >= n.dmin && n.dmax*n.dmax-s2 > n.reach2 && math.IsInf(iv[0][0], -1) && math.IsInf(iv[0][1], 1) {
+		v := lc.s0
+		if lc.second {
+			v += lc.ds * 0.5 * inv * n.m2
+		}
+		if lc.near {
+			v += n.layerExact(math.Inf(-1), math.Inf(1), s, lc.s0)
+		}
+		return v
+	}
 	zD := math.Sqrt(n.dmax*n.dmax - s2)
 	zd := 0.0
 	if s < n.dmin {
 		zd = math.Sqrt(n.dmin*n.dmin - s2)
 	}
-	s0, ds := n.completeness(s)
-	// S(√(s² + z²)) to second order in z² is good to (S″/2)(z²/2s)², below 1e-7 of S unless
-	// the layer is thick against s; there the nodes take S itself.
-	near := false
-	if n.compl {
-		m2 := n.h*n.h + n.zsun*n.zsun
-		dd := m2 / (2 * s)
-		near = dd > 0.3*n.soft || math.Abs(ds)*(1/n.soft+1/s)*3*m2*m2/(8*s*s) > 1e-6*s0
-	}
-	second := n.compl && !near
-	var m0, m2, extra float64
-	// Beyond layerReach·H of the mid-plane the layer's share is below 1e-19.
-	wlo, whi := -n.zsun-layerReach*n.h, -n.zsun+layerReach*n.h
-	add := func(a, b float64) {
-		if !(b > a) || b <= wlo || a >= whi {
-			return
-		}
-		if a <= wlo && b >= whi {
-			m0++
-			if second {
-				m2 += n.h*n.h + n.zsun*n.zsun
-			}
-			if near {
-				extra += n.layerExact(a, b, s, s0)
-			}
-			return
-		}
-		v0, v2 := n.layerShare(a, b, second)
-		m0 += v0
-		m2 += v2
-		if near {
-			extra += n.layerExact(a, b, s, s0)
-		}
-	}
 	for _, v := range iv[:k] {
 		if zd > 0 {
-			add(max(v[0], -zD), min(v[1], -zd))
-			add(max(v[0], zd), min(v[1], zD))
+			n.addLayer(&lc, max(v[0], -zD), min(v[1], -zd))
+			n.addLayer(&lc, max(v[0], zd), min(v[1], zD))
 		} else {
-			add(max(v[0], -zD), min(v[1], zD))
+			n.addLayer(&lc, max(v[0], -zD), min(v[1], zD))
 		}
 	}
 	// S(√(s² + z²)) = S(s) + S′(s) z²/(2s) + O(z⁴).
-	return s0*m0 + ds/(2*s)*m2 + extra
+	return lc.s0*lc.m0 + lc.ds*0.5*inv*lc.m2 + lc.extra
+}
+
+// layerCall gathers the layer's share m0, its second moment m2 and the correction extra of
+// the exact nodes over the height intervals above one plane point at projected distance s,
+// where S(s) = s0 and S′(s) = ds.
+type layerCall struct {
+	s, s0, ds     float64
+	near, second  bool
+	m0, m2, extra float64
+}
+
+// addLayer adds to lc the layer's part at heights (relative to the Sun) in [a, b].
+func (n *normaliser) addLayer(lc *layerCall, a, b float64) {
+	// Beyond layerReach·H of the mid-plane the layer's share is below 1e-19.
+	wlo, whi := -n.zsun-layerReach*n.h, -n.zsun+layerReach*n.h
+	if !(b > a) || b <= wlo || a >= whi {
+		return
+	}
+	if a <= wlo && b >= whi {
+		lc.m0++
+		if lc.second {
+			lc.m2 += n.m2
+		}
+	} else {
+		v0, v2 := n.layerShare(a, b, lc.second)
+		lc.m0 += v0
+		lc.m2 += v2
+	}
+	if lc.near {
+		lc.extra += n.layerExact(a, b, lc.s, lc.s0)
+	}
 }
 
 // addCut records a breakpoint at R with transition scale (0 for a jump) if it lies in
@@ -676,19 +750,30 @@ func (n *normaliser) armLine(k int, beta float64) float64 {
 	}
 	lo = max(lo, 0)
 	n.panels(lo, hi)
+
 	return e * n.lineSum(k, cb, sb, rk, c, armPiece*min(wk, wIn)/c)
 }
 
 // fieldLine returns the field disk's selected mass per unit azimuth at azimuth β, without
-// the constant 1/(2π h²): ∫ R exp(−R/h) V(R, β) dR over R up to R0 + DMax.
+// the constant 1/(2π h²): ∫ R exp(−R/h) V(R, β) dR over the part of the line within DMax
+// of the Sun.
 func (n *normaliser) fieldLine(beta float64) float64 {
 	sb, cb := math.Sincos(beta)
-	hi := n.r0 + n.dmax
-	n.lineCuts(cb, sb, 0, hi)
-	n.panels(0, hi)
+	// The line sees nothing beyond the circle s = DMax about the Sun.
+	disc := n.dmax*n.dmax - n.r0*n.r0*sb*sb
+	if !(disc > 0) {
+		return 0
+	}
+	sq := math.Sqrt(disc)
+	lo, hi := max(0, n.r0*cb-sq), n.r0*cb+sq
+	if !(hi > lo) {
+		return 0
+	}
+	n.lineCuts(cb, sb, lo, hi)
+	n.panels(lo, hi)
 	maxLen := fieldPiece / n.invScale
 	if n.compl {
-		maxLen = min(maxLen, 2*n.soft)
+		maxLen = min(maxLen, softPiece*n.soft)
 	}
 	return n.lineSum(-1, cb, sb, 0, 0, maxLen)
 }
@@ -764,21 +849,29 @@ func (n *normaliser) outer(kind int, brk []float64) float64 {
 // d, Sun–centre distance r0 (kpc), layer scale height h and the Sun's height zsun (kpc).
 func (n *normaliser) values(z []float64, d *arms.Density, r0, h, zsun float64, diskScale float64) {
 	n.dens, n.r0, n.h, n.zsun = d, r0, h, zsun
+	n.m2 = h*h + zsun*zsun
+	n.nearK = 3 * n.m2 * n.m2 / 8
+	n.bandMargin = 1.01 * bandReach * h
+	n.reach2 = (math.Abs(zsun) + layerReach*h) * (math.Abs(zsun) + layerReach*h)
 	n.invScale = 1 / diskScale
 	n.slope = d.WidthSlope()
-	// The field: breakpoints where the radial line passes the Sun and touches the circles.
-	var brk [7]float64
-	nb := 0
-	brk[nb], nb = -math.Pi, nb+1
+	// The field: breakpoints where the radial line runs parallel to an edge of the
+	// selection and where it touches the circles DMin and DMax about the Sun; between the
+	// two lines that touch DMin, the line that passes through the Sun needs none.
+	brk := append(n.brk[:0], n.farEdges...)
+	brk = append(brk, -math.Pi, math.Pi)
+	if !(n.dmin > 0 && n.dmin < r0) {
+		brk = append(brk, 0)
+	}
 	for _, dd := range [2]float64{n.dmin, n.dmax} {
-		if dd < r0 {
+		if dd > 0 && dd < r0 {
 			a := math.Asin(dd / r0)
-			brk[nb], brk[nb+1], nb = -a, a, nb+2
+			brk = append(brk, -a, a)
 		}
 	}
-	brk[nb], brk[nb+1], nb = 0, math.Pi, nb+2
-	slices.Sort(brk[:nb])
-	z[0] = n.outer(-1, brk[:nb]) / (2 * math.Pi * diskScale * diskScale)
+	slices.Sort(brk)
+	n.brk = brk
+	z[0] = n.outer(-1, brk) / (2 * math.Pi * diskScale * diskScale)
 	for k := range d.NumArms() {
 		lo, hi, start, end, kink := d.ArmSpan(k)
 		// Beyond tailReach·τ of the ends the end factor's mass, τ e^{−tailReach}, is below
