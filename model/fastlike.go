@@ -94,7 +94,9 @@ func (L *Likelihood) sourceIndexed(i int, st *state, ek int, ns *nodeScratch) (f
 				r, vv := s.V-(h*cosB+vz*sinB+vOff), vErr2+v2
 				z2 := r * r / vv
 				z2sum += z2
-				q *= kernelFactor(ek, z2, em.dof)
+				if ek != errGaussian {
+					q *= kernelFactor(ek, z2, em.dof)
+				}
 				prod *= vv
 			}
 			if hasPM {
@@ -110,14 +112,18 @@ func (L *Likelihood) sourceIndexed(i int, st *state, ek int, ns *nodeScratch) (f
 					r, vv := s.PM[0]-m1, pmErr2[0]+mu2
 					z2 := r * r / vv
 					z2sum += z2
-					q *= kernelFactor(ek, z2, em.dof)
+					if ek != errGaussian {
+						q *= kernelFactor(ek, z2, em.dof)
+					}
 					prod *= vv
 				}
 				if hasPM2 {
 					r, vv := s.PM[1]-m2, pmErr2[1]+mu2
 					z2 := r * r / vv
 					z2sum += z2
-					q *= kernelFactor(ek, z2, em.dof)
+					if ek != errGaussian {
+						q *= kernelFactor(ek, z2, em.dof)
+					}
 					prod *= vv
 				}
 			}

@@ -45,6 +45,9 @@ func Exp(x float64) float64 {
 	r := (x - kf*ln2Hi) - kf*ln2Lo
 	k := int64(kb<<12) >> 12 // the integer 64m + j, sign-extended from the low 52 bits
 	s := math.Float64frombits(table[k&(tableLen-1)] + uint64(k>>tableBits)<<52)
-	p := r + r*r*(1.0/2+r*(1.0/6+r*(1.0/24+r*(1.0/120+r*(1.0/720)))))
+	// The polynomial in Estrin's form, whose chain of dependent operations is shorter than
+	// Horner's: an exponential whose argument comes from another waits for it less.
+	r2 := r * r
+	p := r + r2*((1.0/2+r*(1.0/6))+r2*((1.0/24+r*(1.0/120))+r2*(1.0/720)))
 	return s + s*p
 }

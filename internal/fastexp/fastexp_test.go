@@ -76,3 +76,16 @@ func bench(b *testing.B, f func(float64) float64) {
 	sink = s
 	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(len(xs)), "ns/exp")
 }
+
+// BenchmarkExpChain times exponentials each of whose argument depends on the one before,
+// as in the arms' Gaussian of a radius that is itself an exponential: their latency.
+func BenchmarkExpChain(b *testing.B) {
+	s := 0.5
+	for b.Loop() {
+		for range 1024 {
+			s = Exp(-s - 0.1)
+		}
+	}
+	sink = s
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/1024, "ns/exp")
+}
