@@ -259,10 +259,9 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 		}
 	}
 	// Each kept row is written to its own slots, so the threads do not change the result.
-	kept := chain.Samples(burn) // row by row, walker by walker within a row
 	model.Parallel(n, cfg.Sampler.Threads, func(r int) {
-		for k := range W {
-			vals, der := job.values(kept[r*W+k])
+		for k, x := range chain.Positions(burn+r, nil) {
+			vals, der := job.values(x)
 			for q, name := range paramNames {
 				series[q][k][r] = vals[name]
 			}
