@@ -66,6 +66,10 @@ const (
 	// layerReach is how far from the mid-plane, in scale heights, the layer is integrated:
 	// its share beyond is 1e-19.
 	layerReach = 9.0
+	// bandReach is how far from the mid-plane, in scale heights, a band edge is looked for
+	// above a plane point: beyond it the layer's share is 4e-11, and a point whose edge lies
+	// farther is taken as wholly in or wholly out of the band.
+	bandReach = 6.5
 )
 
 // grading are the offsets, in units of a transition's scale, of the breakpoints placed on
@@ -73,12 +77,13 @@ const (
 var grading = [...]float64{2, 6}
 
 // armPiece and fieldPiece are the longest pieces across, in widths w/cos ψ of the arm and in
-// scale lengths h of the field disk.
-const armPiece, fieldPiece = 2.0, 2.0
+// scale lengths h of the field disk; softPiece is the field's longest piece in units of the
+// completeness's softness.
+const armPiece, fieldPiece, softPiece = 2.0, 3.0, 4.0
 
 var (
 	glX, glW   = gaussLegendre(4) // across, on each piece (and near the Sun, in height)
-	ghX, ghW   = gaussHermite(8)  // across an arm without breakpoints
+	ghX, ghW   = gaussHermite(6)  // across an arm without breakpoints
 	kx, kw, kg = quad.UnitRule()  // along
 )
 
@@ -182,7 +187,8 @@ type normaliser struct {
 	invScale    float64 // 1/h of the field disk
 	m2          float64 // H² + z⊙², the layer's second moment about the Sun's height
 	nearK       float64 // 3 m2²/8: the bound on S's expansion in z² is |S′|(1/soft + 1/s) nearK/s²
-	bandMargin  float64 // 1.01 layerReach H: how far in sin δ, times s, the layer reaches
+	bandMargin  float64 // 1.01 bandReach H: how far in sin δ, times s, a band edge is looked for
+	reach2      float64 // (|z⊙| + layerReach H)²: the layer's reach from the Sun's height, squared
 	slope       float64
 
 	cuts []cut
@@ -480,7 +486,7 @@ func (n *normaliser) visible(x, y float64) float64 {
 	k := 1
 	iv[0] = [2]float64{math.Inf(-1), math.Inf(1)}
 	if n.cutLo || n.cutHi {
-		// Within layerReach·H of the mid-plane the latitude moves by at most layerReach·H/s
+		// Within bandReach·H of the mid-plane the latitude moves by at most bandReach·H/s
 		// and sin δ by no more: a band edge farther than that in sin δ leaves the layer
 		// wholly in or wholly out.
 		fm := P * inv
@@ -496,18 +502,29 @@ func (n *normaliser) visible(x, y float64) float64 {
 			k = n.band(P, s, &iv)
 		}
 	}
+	lc := layerCall{s: s, s0: 1}
+	if n.compl {
+		// S(√(s² + z²)) to second order in z² is good to (S″/2)(z²/2s)², below 1e-5 of S
+		// unless the layer is thick against s; there the nodes take S itself.
+		lc.s0, lc.ds = n.completeness(s)
+		lc.near = n.m2*0.5*inv > 0.3*n.soft || -lc.ds*(n.invSoft+inv)*n.nearK*inv*inv > 1e-5*lc.s0
+		lc.second = !lc.near
+	}
+	// The common case: the whole layer is seen, out to layerReach·H from the mid-plane.
+	if k == 1 && s >= n.dmin && n.dmax*n.dmax-s2 > n.reach2 && math.IsInf(iv[0][0], -1) && math.IsInf(iv[0][1], 1) {
+		v := lc.s0
+		if lc.second {
+			v += lc.ds * 0.5 * inv * n.m2
+		}
+		if lc.near {
+			v += n.layerExact(math.Inf(-1), math.Inf(1), s, lc.s0)
+		}
+		return v
+	}
 	zD := math.Sqrt(n.dmax*n.dmax - s2)
 	zd := 0.0
 	if s < n.dmin {
 		zd = math.Sqrt(n.dmin*n.dmin - s2)
-	}
-	lc := layerCall{s: s, s0: 1}
-	if n.compl {
-		// S(√(s² + z²)) to second order in z² is good to (S″/2)(z²/2s)², below 1e-6 of S
-		// unless the layer is thick against s; there the nodes take S itself.
-		lc.s0, lc.ds = n.completeness(s)
-		lc.near = n.m2*0.5*inv > 0.3*n.soft || -lc.ds*(n.invSoft+inv)*n.nearK*inv*inv > 1e-6*lc.s0
-		lc.second = !lc.near
 	}
 	for _, v := range iv[:k] {
 		if zd > 0 {
@@ -733,6 +750,7 @@ func (n *normaliser) armLine(k int, beta float64) float64 {
 	}
 	lo = max(lo, 0)
 	n.panels(lo, hi)
+
 	return e * n.lineSum(k, cb, sb, rk, c, armPiece*min(wk, wIn)/c)
 }
 
@@ -755,7 +773,7 @@ func (n *normaliser) fieldLine(beta float64) float64 {
 	n.panels(lo, hi)
 	maxLen := fieldPiece / n.invScale
 	if n.compl {
-		maxLen = min(maxLen, 2*n.soft)
+		maxLen = min(maxLen, softPiece*n.soft)
 	}
 	return n.lineSum(-1, cb, sb, 0, 0, maxLen)
 }
@@ -833,7 +851,8 @@ func (n *normaliser) values(z []float64, d *arms.Density, r0, h, zsun float64, d
 	n.dens, n.r0, n.h, n.zsun = d, r0, h, zsun
 	n.m2 = h*h + zsun*zsun
 	n.nearK = 3 * n.m2 * n.m2 / 8
-	n.bandMargin = 1.01 * layerReach * h
+	n.bandMargin = 1.01 * bandReach * h
+	n.reach2 = (math.Abs(zsun) + layerReach*h) * (math.Abs(zsun) + layerReach*h)
 	n.invScale = 1 / diskScale
 	n.slope = d.WidthSlope()
 	// The field: breakpoints where the radial line runs parallel to an edge of the

@@ -35,6 +35,16 @@ type MapData struct {
 	// GridStep is the spacing of the circles of constant R and of the axis
 	// labels, kpc (0: 2 kpc for a half-width up to 12 kpc, else 4 kpc).
 	GridStep float64
+	// Unseen are the ranges of Galactic longitude whose directions in the plane a
+	// survey does not see, shaded lightly as wedges from the Sun out to the map's
+	// edge (nil: none).
+	Unseen []LongitudeRange
+	// UnseenLabel is the legend's entry for Unseen ("": "not surveyed").
+	UnseenLabel string
+	// HalfDistance is the distance from the Sun (kpc) at which the survey's
+	// completeness falls to one half, drawn as a dashed circle about the Sun
+	// and named in the legend (0: none). It does not widen the map.
+	HalfDistance float64
 	// KeyPos is the corner of the legend (KeyDefault: top right).
 	KeyPos KeyPos
 	// FontSize is the base text size (0: 11 pt).
@@ -89,7 +99,7 @@ func equalAspect(p *plot.Plot, c draw.Canvas) {
 // (0, −R0): a polar grid, the arms' bands, centre lines and names, the
 // sources coloured by their most probable arm with their distance ranges
 // along the line of sight, optional motion arrows, the Sun and the centre,
-// and a legend. Map coordinates are x = −R sin β, y = −R cos β (Polar.XY).
+// the survey's reach when given (see SurveyReach), and a legend. Map coordinates are x = −R sin β, y = −R cos β (Polar.XY).
 // The grid's spokes are Galactocentric azimuths β (labelled at the map's
 // edge, β = 0° toward the Sun), which the legend says; those labels and the
 // arms' names keep clear of the legend, and the names of the sources' marks
@@ -172,7 +182,12 @@ func FaceOnMap(d MapData) (*FaceOnPlot, error) {
 			}
 		}
 	}
-	p.Add(grid, bands, spread, marks, assigned)
+	reach := SurveyReach{R0: d.R0, Unseen: d.Unseen, HalfDistance: d.HalfDistance}
+	p.Add(grid)
+	if reach.active() {
+		p.Add(reach)
+	}
+	p.Add(bands, spread, marks, assigned)
 	if d.MotionScale > 0 {
 		p.Add(arrows)
 	}
@@ -200,6 +215,16 @@ func FaceOnMap(d MapData) (*FaceOnPlot, error) {
 	}))
 	key.Add("tied by catalog label", markThumb(func(c draw.Canvas, pt vg.Point) { tiedMark(c, pt, r, ArmColor(0)) }))
 	key.Add("distance 16–84%", lineThumb(draw.LineStyle{Color: withAlpha(inkColor, 0.6), Width: 0.9}))
+	if len(d.Unseen) > 0 {
+		label := d.UnseenLabel
+		if label == "" {
+			label = "not surveyed"
+		}
+		key.Add(label, wedgeThumb())
+	}
+	if d.HalfDistance > 0 && finite(d.HalfDistance) {
+		key.Add(halfDistanceLabel(d.HalfDistance), lineThumb(reachCircle))
+	}
 	key.Add("Sun", markThumb(func(c draw.Canvas, pt vg.Point) { sunMark(c, pt, Landmarks{}.size()) }))
 	key.Add("Galactic centre", markThumb(func(c draw.Canvas, pt vg.Point) { centreMark(c, pt, Landmarks{}.size()) }))
 	if grid.spokes() > 0 {

@@ -7,6 +7,7 @@ import (
 	"path/filepath"
 	"slices"
 	"strconv"
+	"strings"
 
 	"gonum.org/v1/plot/font"
 	"gonum.org/v1/plot/vg"
@@ -180,7 +181,64 @@ func mapData(in *figureInput) (plots.MapData, error) {
 		Sources:     srcs,
 		MotionScale: motionScale(speeds, rMax),
 	}
+	sel := &in.job.Spec.Selection
+	d.Unseen, d.UnseenLabel = unseenInPlane(sel)
+	d.HalfDistance = sel.HalfDistance
 	return d, nil
+}
+
+// unseenInPlane returns the ranges of longitude the selection leaves unseen in the plane
+// (b = 0), touching ranges joined, and the legend's words for them, naming the band's
+// limits that cut the plane and the excluded longitudes: "not surveyed (δ < −30°)".
+func unseenInPlane(sel *model.Selection) ([]plots.LongitudeRange, string) {
+	gaps := sel.PlaneGaps()
+	if len(gaps) == 0 {
+		return nil, ""
+	}
+	var out []plots.LongitudeRange
+	var south, north, excluded bool
+	for _, g := range gaps {
+		switch g.Cause {
+		case model.GapSouth:
+			south = true
+		case model.GapNorth:
+			north = true
+		case model.GapExcluded:
+			excluded = true
+		}
+		if n := len(out); n > 0 && out[n-1].To == g.From {
+			out[n-1].To = g.To
+			continue
+		}
+		out = append(out, plots.LongitudeRange{From: g.From, To: g.To})
+	}
+	// A range ending at 2π continues into one starting at 0.
+	if n := len(out); n > 1 && math.Mod(out[n-1].To, 2*math.Pi) == out[0].From {
+		out[0].From = out[n-1].From
+		out = out[:n-1]
+	}
+	var parts []string
+	if south {
+		parts = append(parts, "δ < "+degrees(sel.DecMin))
+	}
+	if north {
+		parts = append(parts, "δ > "+degrees(sel.DecMax))
+	}
+	if excluded {
+		var ls []string
+		for _, r := range sel.ExcludeL {
+			ls = append(ls, degrees(r[0])+"–"+degrees(r[1]))
+		}
+		parts = append(parts, "l "+strings.Join(ls, ", "))
+	}
+	return out, "not surveyed (" + strings.Join(parts, "; ") + ")"
+}
+
+// degrees writes an angle given in radians in degrees to at most four significant figures,
+// with the typographic minus sign.
+func degrees(rad float64) string {
+	s := strconv.FormatFloat(rad*180/math.Pi, 'g', 4, 64)
+	return strings.Replace(s, "-", "−", 1) + "°"
 }
 
 func polars(pts []arms.Point) []plots.Polar {

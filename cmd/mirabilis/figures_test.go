@@ -13,6 +13,7 @@ import (
 	"testing"
 
 	"github.com/mirabilis-astro/mirabilis/internal/mocktest"
+	"github.com/mirabilis-astro/mirabilis/model"
 	"github.com/mirabilis-astro/mirabilis/model/fit"
 	"github.com/mirabilis-astro/mirabilis/plots"
 )
@@ -108,6 +109,25 @@ func TestFiguresOfSmallFit(t *testing.T) {
 				t.Errorf("map.png: %d pixels in the colour of arm %d, want the arm drawn", n, k+1)
 			}
 		}
+	}
+	// With the survey's selection of figTestSurvey (the fit was not told it, which keeps it
+	// short), the map shows its reach: the plane south of δ = −35° and the completeness's
+	// half distance.
+	spec := *out.Job.Spec
+	spec.Selection = model.Selection{DecMin: -35 * math.Pi / 180, DecMax: math.Pi / 2, HalfDistance: 8, Softness: 0.5}
+	job := *out.Job
+	job.Spec = &spec
+	told := *out
+	told.Job = &job
+	in, err := newFigureInput(&told)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if d, err := mapData(in); err != nil {
+		t.Error(err)
+	} else if len(d.Unseen) != 1 || d.UnseenLabel != "not surveyed (δ < −35°)" || d.HalfDistance != 8 {
+		t.Errorf("map of a survey south-limited at δ = −35°, complete to 8 kpc: unseen %v (%q), half distance %g",
+			d.Unseen, d.UnseenLabel, d.HalfDistance)
 	}
 	// The triangles of the globals and of the arms both have 6 free parameters: square, with
 	// tiles of at least 1.2 in.
@@ -216,6 +236,37 @@ func TestChainColumns(t *testing.T) {
 		"Corvid_pitch2": "Corvid_pitch2 (deg)", "Corvid_width": "Corvid_width (kpc)", "alpha": "alpha", "f_field": "f_field"} {
 		if got := paramLabel(name, armNames); got != want {
 			t.Errorf("paramLabel(%q) = %q, want %q", name, got, want)
+		}
+	}
+}
+
+// TestUnseenInPlane checks the map's unseen longitudes and their legend words: a band's gap
+// that touches an excluded range is drawn as one wedge, named by both; a selection that
+// sees the whole plane draws none. The edge at l = 247.1127° is where astropy 5.2.1 puts
+// δ = −30° in the plane (testdata/selection/plane_edges.json).
+func TestUnseenInPlane(t *testing.T) {
+	deg := math.Pi / 180
+	sel := model.Selection{DecMin: -30 * deg, DecMax: 90 * deg, ExcludeL: [][2]float64{{350 * deg, 10 * deg}, {60 * deg, 70 * deg}}}
+	got, label := unseenInPlane(&sel)
+	want := []plots.LongitudeRange{{From: 60 * deg, To: 70 * deg}, {From: 247.1126626 * deg, To: 10 * deg}}
+	if len(got) != len(want) {
+		t.Fatalf("ranges %v, want %v", got, want)
+	}
+	for k := range want {
+		if math.Abs(got[k].From-want[k].From) > 1e-4*deg || math.Abs(got[k].To-want[k].To) > 1e-9 {
+			t.Errorf("range %d: %.5f..%.5f°, want %.5f..%.5f°", k, got[k].From/deg, got[k].To/deg, want[k].From/deg, want[k].To/deg)
+		}
+	}
+	if want := "not surveyed (δ < −30°; l 350°–10°, 60°–70°)"; label != want {
+		t.Errorf("label %q, want %q", label, want)
+	}
+	// A band of δ < 40° cuts the plane on its north side only.
+	if _, label := unseenInPlane(&model.Selection{DecMin: -90 * deg, DecMax: 40 * deg}); label != "not surveyed (δ > 40°)" {
+		t.Errorf("band [−90°, 40°]: label %q", label)
+	}
+	for _, s := range []model.Selection{{}, {HalfDistance: 9, Softness: 1}, {DecMin: -70 * deg, DecMax: 90 * deg}} {
+		if got, label := unseenInPlane(&s); got != nil || label != "" {
+			t.Errorf("selection %+v: ranges %v, label %q; want none", s, got, label)
 		}
 	}
 }
