@@ -140,6 +140,21 @@ func (c *Chain) Position(t, k int, dst []float64) []float64 {
 	return dst
 }
 
+// Positions copies the positions of every walker at kept row t into dst (indexed
+// [walker][parameter]), which is grown if needed, and returns it. The row is read once.
+func (c *Chain) Positions(t int, dst [][]float64) [][]float64 {
+	b := c.read(t, 1, nil)
+	dst = slices.Grow(dst[:0], c.walkers)[:c.walkers]
+	for k := range dst {
+		dst[k] = slices.Grow(dst[k][:0], c.Dim())[:c.Dim()]
+		rec := b[k*c.rec:]
+		for j := range dst[k] {
+			dst[k][j] = math.Float64frombits(field(rec, 3+j))
+		}
+	}
+	return dst
+}
+
 // rowsPerRead is how many kept rows the bulk readers copy at once.
 const rowsPerRead = 64
 

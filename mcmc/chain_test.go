@@ -31,6 +31,9 @@ func TestReadChainLayout(t *testing.T) {
 	if c.Position(0, 0, nil)[1] != 1e-5 || c.Position(1, 1, nil)[1] != 6.5 || c.LogDensity(0, 1) != -2 || c.LogDensity(1, 0) != -0.5 {
 		t.Errorf("values read wrongly: %v", c.Samples(0))
 	}
+	if row := c.Positions(1, nil); len(row) != 2 || !slices.Equal(row[0], []float64{1, 2}) || !slices.Equal(row[1], []float64{5, 6.5}) {
+		t.Errorf("Positions(1) = %v, want [[1 2] [5 6.5]]", row)
+	}
 	s := c.Series(0, 1)
 	if len(s) != 2 || len(s[0]) != 1 || s[0][0] != 1 || s[1][0] != 5 {
 		t.Errorf("Series(0, 1) = %v, want [[1] [5]]", s)

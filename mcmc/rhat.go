@@ -1,8 +1,9 @@
 package mcmc
 
 import (
+	"cmp"
 	"math"
-	"sort"
+	"slices"
 
 	"gonum.org/v1/gonum/stat"
 	"gonum.org/v1/gonum/stat/distuv"
@@ -139,7 +140,8 @@ func rankNormalise(chains [][]float64) [][]float64 {
 			all = append(all, draw{v, m, i})
 		}
 	}
-	sort.Slice(all, func(a, b int) bool { return all[a].v < all[b].v })
+	// Ties share one rank, so their order after sorting does not matter.
+	slices.SortFunc(all, func(a, b draw) int { return cmp.Compare(a.v, b.v) })
 	out := make([][]float64, len(chains))
 	for m, x := range chains {
 		out[m] = make([]float64, len(x))
@@ -167,7 +169,7 @@ func pooledQuantile(chains [][]float64, p float64) float64 {
 	for _, x := range chains {
 		all = append(all, x...)
 	}
-	sort.Float64s(all)
+	slices.Sort(all)
 	h := p * float64(len(all)-1)
 	lo := int(math.Floor(h))
 	if lo >= len(all)-1 {

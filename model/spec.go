@@ -121,7 +121,8 @@ type Params struct {
 	// its mid-plane; zero, and unused, when the spec has no vertical structure.
 	ScaleHeight, ZSun float64
 	// LogNorm is ln Σ_m f_m Z_m, the logarithm of the selected share of the mixture (see
-	// Spec.Normalisation), which every source's ln L_i subtracts; zero without a selection.
+	// Spec.Normalisation), which every source's ln L_i subtracts; zero without a selection,
+	// NaN in a set made by NewParamsUnnormalised.
 	LogNorm float64
 }
 
@@ -130,6 +131,35 @@ type Params struct {
 // mode fractions may be absent (then equal); arm parameters are needed whenever the spec has
 // arms.
 func (s *Spec) NewParams(values map[string]float64) (*Params, error) {
+	p, err := s.newParams(values)
+	if err != nil {
+		return nil, err
+	}
+	if err := s.setLogNorm(p); err != nil {
+		return nil, err
+	}
+	return p, nil
+}
+
+// NewParamsUnnormalised builds a parameter set as NewParams does but leaves out the
+// selection's normalisation, the costly part of NewParams with a selection: LogNorm is
+// then NaN, so that any ln L computed with the set is NaN too. It serves the quantities
+// in which ln Σ_m f_m Z_m cancels or does not enter: a source's membership probabilities
+// (SourceDetail's memb), its distance posterior (NodeMasses), the derived quantities
+// (Derived), the motion and the arms. Without a selection it is NewParams.
+func (s *Spec) NewParamsUnnormalised(values map[string]float64) (*Params, error) {
+	p, err := s.newParams(values)
+	if err != nil {
+		return nil, err
+	}
+	if s.Selection.Active() && s.Galaxy {
+		p.LogNorm = math.NaN()
+	}
+	return p, nil
+}
+
+// newParams is NewParams without the selection's normalisation (LogNorm 0).
+func (s *Spec) newParams(values map[string]float64) (*Params, error) {
 	m, _, err := MotionFromParams(values, s.Curve)
 	if err != nil {
 		return nil, err
@@ -215,9 +245,6 @@ func (s *Spec) NewParams(values map[string]float64) (*Params, error) {
 	}
 	if math.Abs(sum-1) > 1e-6 {
 		return nil, fmt.Errorf("membership fractions sum to %.9g, want 1", sum)
-	}
-	if err := s.setLogNorm(p); err != nil {
-		return nil, err
 	}
 	return p, nil
 }

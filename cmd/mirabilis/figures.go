@@ -53,25 +53,32 @@ func writeFigures(out *fit.Outcome) ([]string, error) {
 	if err := atomicfile.MkdirAll(dir); err != nil {
 		return nil, fmt.Errorf("figures: %w", err)
 	}
-	var paths []string
-	var errs []error
-	for _, f := range figureMakers {
+	// The figures are drawn side by side on the worker pool, each into its own slot, and
+	// reported in their order.
+	threads := 0
+	if out.Job.Config != nil {
+		threads = out.Job.Config.Sampler.Threads
+	}
+	paths := make([]string, len(figureMakers))
+	errs := make([]error, len(figureMakers))
+	model.Parallel(len(figureMakers), threads, func(k int) {
+		f := figureMakers[k]
 		fig, w, h, err := f.make(in)
 		if err != nil {
-			errs = append(errs, fmt.Errorf("%s: %w", f.file, err))
-			continue
+			errs[k] = fmt.Errorf("%s: %w", f.file, err)
+			return
 		}
 		if fig == nil {
-			continue
+			return
 		}
 		path := filepath.Join(dir, f.file)
 		if err := plots.Save(fig, path, w, h); err != nil {
-			errs = append(errs, err)
-			continue
+			errs[k] = err
+			return
 		}
-		paths = append(paths, path)
-	}
-	return paths, errors.Join(errs...)
+		paths[k] = path
+	})
+	return slices.DeleteFunc(paths, func(p string) bool { return p == "" }), errors.Join(errs...)
 }
 
 // figureInput is what several figures share: the run, the model at the posterior medians,

@@ -36,6 +36,8 @@ Kinds:
   map         the Galaxy face-on at the posterior median: each arm's band (± its
               width) and, deeper and narrower, the 68% spread of its centre line
               over posterior draws; the catalog's sources coloured by membership;
+              with a [selection], the longitudes of the plane the survey does not
+              see shaded from the Sun and its completeness's half distance dashed;
               with --sources, new sources placed as assign places them
   rotation    the rotation curve with its 68% and 95% bands and the sources
   pairs       one- and two-dimensional marginals of the sampled parameters

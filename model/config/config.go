@@ -255,6 +255,10 @@ type Moves struct {
 	// Statistics and Computing 31, 61), whose interval widths are tuned
 	// during burn-in.
 	DiffSlice, GaussSlice float64
+	// Independence is the independence Metropolis–Hastings move (Tierney 1994,
+	// Ann. Stat. 22, 1701) whose proposal is a Student t fitted to the other
+	// half of the ensemble (mcmc.IndependenceMove).
+	Independence float64
 }
 
 // DefaultMoves are the move weights of a configuration that gives none,

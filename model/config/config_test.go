@@ -244,6 +244,9 @@ func TestParamNames(t *testing.T) {
 	if rot.SamplesFractions() || rot.Dim() != 10 {
 		t.Errorf("rotation_only: SamplesFractions %v, Dim %d (want false, 10 free globals)", rot.SamplesFractions(), rot.Dim())
 	}
+	if rot.Sampler.Moves != (Moves{Independence: 0.7, DiffEvolution: 0.3}) || rot.Sampler.Walkers != 80 {
+		t.Errorf("rotation_only: moves %+v with %d walkers", rot.Sampler.Moves, rot.Sampler.Walkers)
+	}
 }
 
 // TestStartAndSpreads checks the pilot start (pilot_start, else the prior's
@@ -359,6 +362,7 @@ func TestHash(t *testing.T) {
 		"prior": func(c *Config) { c.Arms[1].Pitch = prior.Uniform{Min: 5, Max: 21} },
 		"tol":   func(c *Config) { c.Likelihood.Tolerance = 2e-4 },
 		"steps": func(c *Config) { c.Sampler.Steps = 4001 },
+		"moves": func(c *Config) { c.Sampler.Moves.Independence = 0.1 },
 	} {
 		c := load(t, "demo.toml")
 		change(c)

@@ -174,10 +174,15 @@ TOP LEVEL
                     Default 200.
   moves             relative weights of the proposal moves: stretch and walk
                     (Goodman & Weare 2010), differential_evolution (ter Braak
-                    2006), and the ensemble slice moves differential_slice
+                    2006), the ensemble slice moves differential_slice
                     and gaussian_slice (Karamanis & Beutler 2021), which
                     cost a varying number of likelihood evaluations per
-                    step. Default { stretch = 0.2,
+                    step, and independence, whose proposal is drawn,
+                    wherever the walker stands, from a Student t (5 degrees
+                    of freedom) centred on the mean of the other half of
+                    the ensemble, with that half's covariance as its scale
+                    matrix (independence Metropolis-Hastings, Tierney
+                    1994). Default { stretch = 0.2,
                     differential_evolution = 0.8 }: see below.
   adapt_weights     true lets the weights adapt during burn-in, so that
                     each move's share of the likelihood evaluations is in
@@ -212,6 +217,17 @@ TOP LEVEL
   posteriors where steps of the local size of the density matter.
   Adapting the weights came within 10-20% of the best fixed choice but
   did not beat the mix, which stays the default.
+  The independence move helps with many walkers, about 8 per dimension,
+  whose halves give its Student t a well-determined covariance; each half
+  needs more walkers than dimensions at the very least. With
+  { independence = 0.7, differential_evolution = 0.3 } and 208 walkers it
+  gave about twice the mix's effective samples per evaluation in short
+  chains (5 to 6 τ): 10.2 against the mix's 4.8 (56 walkers) on the demo
+  with its vertical layer (27 dimensions), 12.4 against 5.4 on a
+  400-source mock of the demo galaxy. With 104 walkers on the
+  26-dimensional demo it gave 3.7, below the mix's 4.1. It is rejected
+  almost always where the posterior is far from a t density (several
+  modes, strong curvature), so keep a local move beside it.
 
 EXAMPLE
 ` + Example
@@ -311,7 +327,7 @@ burn = 1000
 seed = 1
 threads = 0                      # all cores
 checkpoint_every = 200
-moves = { stretch = 0.2, differential_evolution = 0.8 }  # or walk, differential_slice, gaussian_slice
+moves = { stretch = 0.2, differential_evolution = 0.8 }  # or walk, differential_slice, gaussian_slice, independence
 adapt_weights = false
 min_ess = 1000
 stretch_scale = 2.0

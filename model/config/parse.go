@@ -105,6 +105,7 @@ type fileMoves struct {
 	Walk          *float64 `toml:"walk"`
 	DiffSlice     *float64 `toml:"differential_slice"`
 	GaussSlice    *float64 `toml:"gaussian_slice"`
+	Independence  *float64 `toml:"independence"`
 }
 
 // Load reads and checks the configuration file at path. Relative paths in it
@@ -328,6 +329,7 @@ func (d *fileConfig) fill(c *Config, ps *problems) {
 			Walk:          orFloat(mv.Walk, 0),
 			DiffSlice:     orFloat(mv.DiffSlice, 0),
 			GaussSlice:    orFloat(mv.GaussSlice, 0),
+			Independence:  orFloat(mv.Independence, 0),
 		}
 	}
 }

@@ -126,9 +126,15 @@ func (c *Config) write(forHash bool) []byte {
 		w.integer("threads", int64(s.Threads), "0 = all cores")
 		w.integer("checkpoint_every", int64(s.CheckpointEvery), "steps")
 	}
-	w.line("moves", fmt.Sprintf("{ stretch = %s, differential_evolution = %s, walk = %s, differential_slice = %s, gaussian_slice = %s }",
+	// The hash leaves out a zero independence weight, so that it is the same as before
+	// the setting existed and run directories made then still resume.
+	independence := ""
+	if !forHash || s.Moves.Independence != 0 {
+		independence = ", independence = " + formatFloat(s.Moves.Independence)
+	}
+	w.line("moves", fmt.Sprintf("{ stretch = %s, differential_evolution = %s, walk = %s, differential_slice = %s, gaussian_slice = %s%s }",
 		formatFloat(s.Moves.Stretch), formatFloat(s.Moves.DiffEvolution), formatFloat(s.Moves.Walk),
-		formatFloat(s.Moves.DiffSlice), formatFloat(s.Moves.GaussSlice)), "relative weights")
+		formatFloat(s.Moves.DiffSlice), formatFloat(s.Moves.GaussSlice), independence), "relative weights")
 	w.line("adapt_weights", strconv.FormatBool(s.AdaptWeights), "during burn-in")
 	w.num("min_ess", s.MinESS, "with steps = 0")
 	w.num("stretch_scale", s.StretchScale, "")

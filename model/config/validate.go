@@ -355,6 +355,9 @@ func (c *Config) validateSampler(ps *problems) {
 	switch {
 	case s.Walkers%2 != 0:
 		ps.addf("sampler.walkers", "%d is odd: the ensemble is split into two equal halves", s.Walkers)
+	case s.Walkers < 2*dim+2 && s.Moves.Independence > 0:
+		ps.addf("sampler.walkers", "%d walkers are too few for the independence move in %d sampled dimensions: its Student t has the covariance of the other half of the ensemble, which needs at least %d walkers in each half (so at least %d in all); it did best with about 8 per dimension (%d)",
+			s.Walkers, dim, dim+1, 2*dim+2, 8*dim)
 	case s.Walkers < 2*dim+2:
 		ps.addf("sampler.walkers", "%d walkers are too few for %d sampled dimensions: each half of the ensemble needs at least %d (so at least %d in all)", s.Walkers, dim, dim+1, 2*dim+2)
 	}
@@ -386,12 +389,12 @@ func (c *Config) validateSampler(ps *problems) {
 		key string
 		v   float64
 	}{{"stretch", m.Stretch}, {"differential_evolution", m.DiffEvolution}, {"walk", m.Walk},
-		{"differential_slice", m.DiffSlice}, {"gaussian_slice", m.GaussSlice}} {
+		{"differential_slice", m.DiffSlice}, {"gaussian_slice", m.GaussSlice}, {"independence", m.Independence}} {
 		if !finite(w.v) || w.v < 0 {
 			ps.addf("sampler.moves."+w.key, "weight %g: must be zero or positive", w.v)
 		}
 	}
-	if !(m.Stretch+m.DiffEvolution+m.Walk+m.DiffSlice+m.GaussSlice > 0) {
+	if !(m.Stretch+m.DiffEvolution+m.Walk+m.DiffSlice+m.GaussSlice+m.Independence > 0) {
 		ps.addf("sampler.moves", "every move has weight zero")
 	}
 	if !finite(s.MinESS) || s.MinESS < 0 {

@@ -75,7 +75,7 @@ func RadiusRange(s *model.Sightline, R0, d0, d1 float64) (lo, hi float64) {
 func PosteriorMotions(job *Job, sum *Summary, chain *mcmc.Chain, n int) []*model.Motion {
 	var out []*model.Motion
 	add := func(values map[string]float64) {
-		if p, err := job.Spec.NewParams(values); err == nil {
+		if p, err := job.Spec.NewParamsUnnormalised(values); err == nil {
 			out = append(out, p.Motion)
 		}
 	}

@@ -9,6 +9,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"syscall"
 	"testing"
@@ -135,6 +136,50 @@ func TestResumeIsExact(t *testing.T) {
 	cfg.Membership.FieldScale = 3.5
 	if _, err := Fit(ctx, cfg, Options{Out: part, Steps: 50, Resume: true}); err == nil || !strings.Contains(err.Error(), "configuration differs") {
 		t.Errorf("resume with a changed configuration: err = %v, want a refusal", err)
+	}
+}
+
+// TestMovesSameOnAnyThreads: for each move set a configuration can choose besides the
+// default mix (which TestResumeIsExact follows over 1 and 2 threads), a short fit writes
+// the same chain, byte for byte, on 1 and 2 threads, and its summary reports the moves of
+// the configuration with their weights. The reference is the 1-thread fit itself: the
+// sampler's streams belong to the walkers, not to the threads.
+func TestMovesSameOnAnyThreads(t *testing.T) {
+	if testing.Short() {
+		t.Skip("runs two short fits for each move set")
+	}
+	for _, c := range []struct {
+		name, sampler string
+		want          []MoveUse
+	}{
+		// 19 sampled dimensions; 40 walkers a half give the independence move's Student t
+		// a covariance of full rank.
+		{"independence", "walkers = 80\nmoves = { independence = 0.7, differential_evolution = 0.3 }\n",
+			[]MoveUse{{Move: mcmc.DifferentialMove{}.String(), Weight: 0.3}, {Move: mcmc.IndependenceMove{}.String(), Weight: 0.7}}},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			path, _ := setUp(t, 30, "\n[sampler]\nsteps = 20\nburn = 5\nseed = 5\n"+c.sampler)
+			var ref []byte
+			for _, threads := range []int{1, 2} {
+				out := filepath.Join(filepath.Dir(path), fmt.Sprintf("threads%d", threads))
+				res, err := Fit(context.Background(), load(t, path), Options{Out: out, Threads: threads})
+				if err != nil {
+					t.Fatal(err)
+				}
+				if got := res.Summary.Moves; !slices.Equal(got, c.want) {
+					t.Errorf("%d threads: summary's moves %+v, want %+v", threads, got, c.want)
+				}
+				b, err := os.ReadFile(filepath.Join(out, ChainFile))
+				if err != nil {
+					t.Fatal(err)
+				}
+				if ref == nil {
+					ref = b
+				} else if !bytes.Equal(b, ref) {
+					t.Errorf("%d threads: chain differs from the 1-thread chain (%d and %d bytes)", threads, len(b), len(ref))
+				}
+			}
+		})
 	}
 }
 

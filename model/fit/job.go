@@ -130,7 +130,8 @@ type PilotResult struct {
 // start and the MAP, and the MAP refined; finally the panels are built at the start, the
 // MAP and ten draws around it with the expected posterior spreads (the configuration's
 // pilot_spread, or the Laplace approximation's). threads lays out that many sources at
-// once; the result does not depend on it. seed fixes the draws.
+// once and evaluates the Laplace approximation's points; the result does not depend on
+// it. seed fixes the draws.
 func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult, error) {
 	start := j.Start()
 	build := func(points [][]float64) (model.LayoutStats, error) {
@@ -311,13 +312,9 @@ func (j *Job) laplace(x, prior []float64, threads int) []float64 {
 		for i := range z {
 			z[i] = x[i] + h[i]*y[i]
 		}
-		return j.Post.LogDensityParallel(z, threads)
+		return j.Post.LogDensity(z)
 	}
-	// The stencil is evaluated in order (fd's concurrent mode would sum it in the order
-	// the evaluations finish, and the spreads, hence the chain, would depend on timing);
-	// each evaluation shares its sources among the threads instead.
-	var Hy mat.SymDense
-	fd.Hessian(&Hy, scaled, make([]float64, n), &fd.Settings{Formula: fd.Central, Step: 1})
+	Hy := centralHessian(scaled, n, threads)
 	H := mat.NewSymDense(n, nil)
 	for a := range n {
 		for b := a; b < n; b++ {
@@ -347,4 +344,65 @@ func (j *Job) laplace(x, prior []float64, threads int) []float64 {
 		}
 	}
 	return out
+}
+
+// centralHessian returns the Hessian of f at the origin of n coordinates by central
+// differences of unit step: gonum's fd.Hessian with fd.Central and Step 1, the same sums
+// in the same order, so the same values. Its 2n² + 1 distinct points (the stencil's two
+// visits of the origin on the diagonal made once) are evaluated on up to threads
+// goroutines of the worker pool, each value kept in its own slot: the result does not
+// depend on the threads or on the order in which the evaluations finish. f must be safe
+// for concurrent use.
+func centralHessian(f func(y []float64) float64, n, threads int) *mat.SymDense {
+	stencil := fd.Central.Stencil
+	// A point is a e_i + b e_j, the stencil's locations a and b along coordinates i ≤ j.
+	type point struct{ i, a, j, b int }
+	slot := map[point]int{}
+	var points []point
+	index := func(pt point) int {
+		if pt.i == pt.j && pt.a+pt.b == 0 {
+			pt = point{} // the origin
+		}
+		k, ok := slot[pt]
+		if !ok {
+			k = len(points)
+			slot[pt] = k
+			points = append(points, pt)
+		}
+		return k
+	}
+	at := make([]int, 0, 2*n*(n+1))
+	for i := range n {
+		for j := i; j < n; j++ {
+			for _, pi := range stencil {
+				for _, pj := range stencil {
+					at = append(at, index(point{i, int(pi.Loc), j, int(pj.Loc)}))
+				}
+			}
+		}
+	}
+	vals := make([]float64, len(points))
+	model.Parallel(len(points), threads, func(k int) {
+		y := make([]float64, n)
+		pt := points[k]
+		y[pt.i] += float64(pt.a)
+		y[pt.j] += float64(pt.b)
+		vals[k] = f(y)
+	})
+	H := mat.NewSymDense(n, nil)
+	const is2 = 1 // 1/step²
+	next := 0
+	for i := range n {
+		for j := i; j < n; j++ {
+			var hess float64
+			for _, pi := range stencil {
+				for _, pj := range stencil {
+					hess += vals[at[next]] * pi.Coeff * pj.Coeff * is2
+					next++
+				}
+			}
+			H.SetSym(i, j, hess)
+		}
+	}
+	return H
 }

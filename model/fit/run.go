@@ -529,6 +529,9 @@ func moves(s config.Sampler) []mcmc.WeightedMove {
 	if s.Moves.GaussSlice > 0 {
 		out = append(out, mcmc.WeightedMove{Move: mcmc.GaussianSliceMove{}, Weight: s.Moves.GaussSlice})
 	}
+	if s.Moves.Independence > 0 {
+		out = append(out, mcmc.WeightedMove{Move: mcmc.IndependenceMove{}, Weight: s.Moves.Independence})
+	}
 	return out
 }
 

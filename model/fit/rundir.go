@@ -120,7 +120,9 @@ func (r *Run) Burn(burn int) int {
 }
 
 // Draw is one posterior draw: the sampled point, every parameter's value by name and the
-// model's parameters.
+// model's parameters. Params leaves out the selection's normalisation (see
+// model.Spec.NewParamsUnnormalised): it serves memberships, distance posteriors, the
+// arms and the motion, not ln L.
 type Draw struct {
 	X      []float64
 	Values map[string]float64
@@ -140,11 +142,12 @@ func drawsOf(job *Job, c *mcmc.Chain, n, burn int) []Draw {
 	out := make([]Draw, 0, n)
 	for i := range n {
 		x := c.Position(burn+i*rows/n, i%W, nil)
-		p, err := job.Post.Params(x)
+		vals := job.Post.Values(x)
+		p, err := job.Spec.NewParamsUnnormalised(vals)
 		if err != nil {
 			continue
 		}
-		out = append(out, Draw{X: x, Values: job.Post.Values(x), Params: p})
+		out = append(out, Draw{X: x, Values: vals, Params: p})
 	}
 	return out
 }

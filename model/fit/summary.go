@@ -258,19 +258,18 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 			series[q][k] = make([]float64, n)
 		}
 	}
-	var x []float64
-	for t := burn; t < rows; t++ {
-		for k := range W {
-			x = chain.Position(t, k, x)
+	// Each kept row is written to its own slots, so the threads do not change the result.
+	model.Parallel(n, cfg.Sampler.Threads, func(r int) {
+		for k, x := range chain.Positions(burn+r, nil) {
 			vals, der := job.values(x)
 			for q, name := range paramNames {
-				series[q][k][t-burn] = vals[name]
+				series[q][k][r] = vals[name]
 			}
 			for q, name := range derivedNames {
-				series[len(paramNames)+q][k][t-burn] = der[name]
+				series[len(paramNames)+q][k][r] = der[name]
 			}
 		}
-	}
+	})
 	s.Samples = n * W
 	s.samples = samplesTable(names, chain.Steps()[burn:], series)
 	var mapVals, mapDer map[string]float64
@@ -291,8 +290,10 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 			free[name] = p.String()
 		}
 	}
-	s.MedianValues = map[string]float64{}
-	for q, name := range names {
+	// Each quantity's statistics go to its own slot, whatever the threads.
+	stats := make([]Quantity, nq)
+	model.Parallel(nq, cfg.Sampler.Threads, func(q int) {
+		name := names[q]
 		flat := make([]float64, 0, n*W)
 		for k := range W {
 			flat = append(flat, series[q][k]...)
@@ -304,13 +305,18 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 		} else if v, ok := mapDer[name]; ok {
 			qt.MAP = v
 		}
-		if q < len(paramNames) {
-			s.MedianValues[name] = qt.Median
-		}
 		// τ is NaN for a constant or too short series, and so is the ESS then.
 		qt.Tau, _ = mcmc.AutocorrTime(series[q], 5)
 		qt.ESS = float64(n*W) / qt.Tau
 		qt.Rhat, qt.ESSBulk, qt.ESSTail = mcmc.SplitRhat(series[q]), mcmc.BulkESS(series[q]), mcmc.TailESS(series[q])
+		stats[q] = qt
+	})
+	s.MedianValues = map[string]float64{}
+	for q, name := range names {
+		qt := stats[q]
+		if q < len(paramNames) {
+			s.MedianValues[name] = qt.Median
+		}
 		if q < len(paramNames) {
 			if pr, ok := free[name]; ok || isFraction[name] {
 				qt.Prior = pr
@@ -332,15 +338,16 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 	s.Sampling.fill(res, s.Steps, burn, s.MaxTau, s.Params)
 	// Posterior draws for the per-source results and the figures: spread evenly over the
 	// kept rows after burn-in, cycling through the walkers.
+	// The memberships and distance posteriors they serve are ratios in which the
+	// selection's normalisation cancels: the draws are made without it.
 	nd := min(sourceDraws, n*W)
 	var draws []*model.Params
 	for i := range nd {
-		x := chain.Position(burn+i*n/nd, i%W, nil)
-		p, err := job.Post.Params(x)
+		vals := job.Post.Values(chain.Position(burn+i*n/nd, i%W, nil))
+		p, err := job.Spec.NewParamsUnnormalised(vals)
 		if err != nil {
 			continue
 		}
-		vals, _ := job.values(x)
 		draws = append(draws, p)
 		s.Draws = append(s.Draws, vals)
 	}
@@ -361,9 +368,10 @@ func Summarise(job *Job, chain *mcmc.Chain, res *mcmc.Result, pilot *PilotResult
 }
 
 // values returns every parameter's value and the derived quantities at sampled point x.
+// None of the derived quantities needs the selection's normalisation.
 func (j *Job) values(x []float64) (map[string]float64, map[string]float64) {
 	vals := j.Post.Values(x)
-	p, err := j.Spec.NewParams(vals)
+	p, err := j.Spec.NewParamsUnnormalised(vals)
 	if err != nil {
 		return vals, map[string]float64{}
 	}
@@ -416,7 +424,8 @@ const peculiarSeed = 0x7065630a
 // SourceResults returns each source's posterior, averaged over the parameter sets draws
 // (memberships averaged; distance masses pooled on the source's fixed nodes; peculiar
 // motions at one distance per draw, drawn from that draw's distance posterior), with
-// positions under the median parameters.
+// positions under the median parameters. No result needs the selection's normalisation:
+// the draws may be made without it (model.Spec.NewParamsUnnormalised).
 func SourceResults(job *Job, draws []*model.Params, median *model.Params) []SourceResult {
 	L, spec := job.Like, job.Spec
 	nc := spec.NumComponents()
