@@ -160,6 +160,10 @@ func gaussHermite(n int) (x, w []float64) {
 // transition there, or 0 for a jump.
 type cut struct{ at, scale float64 }
 
+// fieldKey holds what the field's share depends on besides the selection: R0, the disk's
+// scale length, and with the layer H and z⊙ (kpc).
+type fieldKey struct{ r0, scale, h, zsun float64 }
+
 // span is one panel of the outer (azimuth) integral with its K15 value and error estimate.
 type span struct{ a, b, k, e float64 }
 
@@ -195,6 +199,12 @@ type normaliser struct {
 	pts  []float64
 	brk  []float64
 	todo []span
+
+	// field, fieldZ: the field's share last computed, and what it depends on (fieldSet once
+	// there is one).
+	field    fieldKey
+	fieldZ   float64
+	fieldSet bool
 
 	// points counts the plane points at which the layer's share was computed.
 	points int
@@ -378,6 +388,46 @@ func (n *normaliser) band(P, s float64, iv *[3][2]float64) int {
 	return k
 }
 
+// oneEdge stores in iv[0] the heights (relative to the Sun) that one edge of the band admits
+// above the plane point (P, s) within layerReach·H of the mid-plane, whose sin δ is fm: the
+// lower edge (sin δ ≥ sinLo) when lower is set, else the upper one. It returns 1, or 0 when
+// the edge admits none of the layer, or −1 when the edge crosses the layer twice there (band
+// then finds the intervals).
+func (n *normaliser) oneEdge(P, s, fm float64, lower bool, iv *[3][2]float64) int {
+	a := n.sinHi
+	if lower {
+		a = n.sinLo
+	}
+	var r [4]float64
+	nr := n.bandRoots(P, s, a, &r, 0)
+	z0 := -n.zsun
+	wlo, whi := z0-layerReach*n.h, z0+layerReach*n.h
+	var root float64
+	count := 0
+	for _, z := range r[:nr] {
+		if z > wlo && z < whi {
+			root, count = z, count+1
+		}
+	}
+	switch count {
+	case 0:
+		if (lower && fm < a) || (!lower && fm > a) {
+			return 0
+		}
+		iv[0] = [2]float64{math.Inf(-1), math.Inf(1)}
+	case 1:
+		// sin δ rises through the edge where f′ ∝ p_z s² − P z is positive.
+		if up := n.pz*s*s-P*root > 0; up == lower {
+			iv[0] = [2]float64{root, math.Inf(1)}
+		} else {
+			iv[0] = [2]float64{math.Inf(-1), root}
+		}
+	default:
+		return -1
+	}
+	return 1
+}
+
 // stdNormalUpper returns Q(u) = 1 − Φ(u) = erfc(u/√2)/2 by the Chebyshev fit to erfc of
 // Press et al. (Numerical Recipes in C, 2nd ed. 1992, §6.2, erfcc), good to 1.2e-7 of
 // erfc everywhere, with one exponential where math.Erfc takes two: the layer's share needs
@@ -494,11 +544,25 @@ func (n *normaliser) visible(x, y float64) float64 {
 			fm = (P - n.pz*n.zsun) / math.Sqrt(s2+n.zsun*n.zsun)
 		}
 		margin := n.bandMargin * inv
-		if (!n.cutLo || math.Abs(fm-n.sinLo) > margin) && (!n.cutHi || math.Abs(fm-n.sinHi) > margin) {
+		nearLo := n.cutLo && math.Abs(fm-n.sinLo) <= margin
+		nearHi := n.cutHi && math.Abs(fm-n.sinHi) <= margin
+		switch {
+		case !nearLo && !nearHi:
 			if (n.cutLo && fm < n.sinLo) || (n.cutHi && fm > n.sinHi) {
 				return 0
 			}
-		} else {
+		case nearLo != nearHi:
+			// The other edge, if any, admits the whole layer or none of it.
+			if (nearLo && n.cutHi && fm > n.sinHi) || (nearHi && n.cutLo && fm < n.sinLo) {
+				return 0
+			}
+			if k = n.oneEdge(P, s, fm, nearLo, &iv); k < 0 {
+				k = n.band(P, s, &iv)
+			}
+			if k == 0 {
+				return 0
+			}
+		default:
 			k = n.band(P, s, &iv)
 		}
 	}
@@ -855,6 +919,34 @@ func (n *normaliser) values(z []float64, d *arms.Density, r0, h, zsun float64, d
 	n.reach2 = (math.Abs(zsun) + layerReach*h) * (math.Abs(zsun) + layerReach*h)
 	n.invScale = 1 / diskScale
 	n.slope = d.WidthSlope()
+	// The field's share depends on R0, the disk's scale length and (with the layer) H and
+	// z⊙ only: a parameter set that keeps them, as when they are fixed, takes it again.
+	key := fieldKey{r0, diskScale, h, zsun}
+	if !n.vertical {
+		key.h, key.zsun = 0, 0
+	}
+	if !n.fieldSet || key != n.field {
+		n.fieldZ, n.field, n.fieldSet = n.fieldShare(r0, diskScale), key, true
+	}
+	z[0] = n.fieldZ
+	for k := range d.NumArms() {
+		lo, hi, start, end, kink := d.ArmSpan(k)
+		// Beyond tailReach·τ of the ends the end factor's mass, τ e^{−tailReach}, is below
+		// 1e-8 of the arm's.
+		tau := (start - lo) / arms.WindingReach
+		lo, hi = max(lo, start-tailReach*tau), min(hi, end+tailReach*tau)
+		brk := [5]float64{lo, start, end, hi, hi}
+		if kink > lo && kink < hi {
+			brk[4] = kink
+		}
+		slices.Sort(brk[:])
+		z[k+1] = n.outer(k, brk[:])
+	}
+}
+
+// fieldShare returns Z of the field disk with scale length diskScale (kpc) under n's
+// geometry and layer.
+func (n *normaliser) fieldShare(r0, diskScale float64) float64 {
 	// The field: breakpoints where the radial line runs parallel to an edge of the
 	// selection and where it touches the circles DMin and DMax about the Sun; between the
 	// two lines that touch DMin, the line that passes through the Sun needs none.
@@ -871,20 +963,7 @@ func (n *normaliser) values(z []float64, d *arms.Density, r0, h, zsun float64, d
 	}
 	slices.Sort(brk)
 	n.brk = brk
-	z[0] = n.outer(-1, brk) / (2 * math.Pi * diskScale * diskScale)
-	for k := range d.NumArms() {
-		lo, hi, start, end, kink := d.ArmSpan(k)
-		// Beyond tailReach·τ of the ends the end factor's mass, τ e^{−tailReach}, is below
-		// 1e-8 of the arm's.
-		tau := (start - lo) / arms.WindingReach
-		lo, hi = max(lo, start-tailReach*tau), min(hi, end+tailReach*tau)
-		brk := [5]float64{lo, start, end, hi, hi}
-		if kink > lo && kink < hi {
-			brk[4] = kink
-		}
-		slices.Sort(brk[:])
-		z[k+1] = n.outer(k, brk[:])
-	}
+	return n.outer(-1, brk) / (2 * math.Pi * diskScale * diskScale)
 }
 
 // Normalisation stores in z (allocated when shorter than NumComponents) and returns Z_m, the

@@ -5,6 +5,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"testing"
 
 	"github.com/mirabilis-astro/mirabilis/arms"
@@ -191,5 +192,113 @@ func TestStdNormalUpper(t *testing.T) {
 	}
 	if q := stdNormalUpper(math.Inf(-1)); q != 1 {
 		t.Errorf("Q(−∞) = %g, want 1", q)
+	}
+}
+
+// TestNormalisationOneEdgeAgreesWithBand checks the shortcut for a plane point near one edge
+// of the band against band (itself checked against Selection.BandLatitudes and so against
+// astropy): within layerReach·H of the mid-plane, the heights oneEdge admits are those of
+// band's intervals, at layers from 5 to 300 pc thick and with the Sun off the mid-plane.
+func TestNormalisationOneEdgeAgreesWithBand(t *testing.T) {
+	used := 0
+	for _, sel := range []Selection{
+		{DecMin: -30 * deg, DecMax: 90 * deg},
+		{DecMin: -40 * deg, DecMax: 65 * deg},
+		{DecMin: -90 * deg, DecMax: -5 * deg},
+		{DecMin: 20 * deg, DecMax: 70 * deg},
+	} {
+		n := newNormaliser(sel, true, 0.05, 30)
+		for _, hz := range [][2]float64{{0.005, 0}, {0.03, 0.02}, {0.3, -0.01}} {
+			n.h, n.zsun = hz[0], hz[1]
+			wlo, whi := -n.zsun-layerReach*n.h, -n.zsun+layerReach*n.h
+			for i := range 1440 {
+				l := (float64(i) + 0.3) * 0.25 * deg
+				for _, s := range []float64{0.02, 0.3, 2, 9, 25} {
+					x, y := s*math.Cos(l), s*math.Sin(l)
+					P := n.px*x + n.py*y
+					fm := (P - n.pz*n.zsun) / math.Hypot(s, n.zsun)
+					for _, lower := range []bool{true, false} {
+						if (lower && !n.cutLo) || (!lower && !n.cutHi) {
+							continue
+						}
+						var one, all [3][2]float64
+						k := n.oneEdge(P, s, fm, lower, &one)
+						if k < 0 {
+							continue
+						}
+						used++
+						// band with the other edge removed.
+						m := *n
+						m.cutLo, m.cutHi = lower, !lower
+						kb := m.band(P, s, &all)
+						var got, want [][2]float64
+						clip := func(v [2]float64) ([2]float64, bool) {
+							a, b := max(v[0], wlo), min(v[1], whi)
+							return [2]float64{a, b}, b > a
+						}
+						for _, v := range one[:k] {
+							if c, ok := clip(v); ok {
+								got = append(got, c)
+							}
+						}
+						for _, v := range all[:kb] {
+							if c, ok := clip(v); ok {
+								want = append(want, c)
+							}
+						}
+						if len(got) != len(want) {
+							t.Errorf("%+v, H %g, z⊙ %g, l %.2f°, s %g: oneEdge %v, band %v", sel, n.h, n.zsun, l/deg, s, got, want)
+							continue
+						}
+						for j := range got {
+							if math.Abs(got[j][0]-want[j][0]) > 1e-12 || math.Abs(got[j][1]-want[j][1]) > 1e-12 {
+								t.Errorf("%+v, H %g, z⊙ %g, l %.2f°, s %g: oneEdge %v, band %v", sel, n.h, n.zsun, l/deg, s, got, want)
+							}
+						}
+					}
+				}
+			}
+		}
+	}
+	if used == 0 {
+		t.Error("oneEdge never answered")
+	}
+	t.Logf("%d points compared", used)
+}
+
+// TestNormalisationReusesField checks that a normaliser that takes the field's share again
+// (R0, the disk and the layer unchanged) gives every Z_m bit for bit as a new one does, the
+// arms moved or not, and computes it afresh when R0, H or z⊙ changes.
+func TestNormalisationReusesField(t *testing.T) {
+	cases := readSelCases(t)
+	c := cases[1]
+	d, sel := c.layout(t)
+	moved := c
+	moved.Arms = slices.Clone(c.Arms)
+	moved.Arms[0].Pitch += 2
+	d2, _ := moved.layout(t)
+	kept := newNormaliser(sel, true, c.DMin, c.DMax)
+	for _, step := range []struct {
+		d          *arms.Density
+		r0, h, zsn float64
+	}{
+		{d, c.R0, c.ScaleHeight, c.ZSun},
+		{d2, c.R0, c.ScaleHeight, c.ZSun},
+		{d2, c.R0 + 0.1, c.ScaleHeight, c.ZSun},
+		{d, c.R0 + 0.1, 2 * c.ScaleHeight, c.ZSun},
+		{d, c.R0 + 0.1, 2 * c.ScaleHeight, c.ZSun + 0.01},
+		{d, c.R0, c.ScaleHeight, c.ZSun},
+	} {
+		got := make([]float64, d.NumArms()+1)
+		want := make([]float64, d.NumArms()+1)
+		before := kept.points
+		kept.values(got, step.d, step.r0, step.h, step.zsn, c.DiskScale)
+		newNormaliser(sel, true, c.DMin, c.DMax).values(want, step.d, step.r0, step.h, step.zsn, c.DiskScale)
+		for m := range got {
+			if got[m] != want[m] {
+				t.Errorf("R0 %g, H %g, z⊙ %g: Z_%d = %v with the kept normaliser, %v with a new one", step.r0, step.h, step.zsn, m, got[m], want[m])
+			}
+		}
+		t.Logf("R0 %g, H %g, z⊙ %g: %d points", step.r0, step.h, step.zsn, kept.points-before)
 	}
 }
