@@ -281,9 +281,18 @@ func indexedBuild(t testing.TB, c indexedCase, spec *Spec, src []Source) (*Likel
 
 // TestChainSameForAnyThreadCount samples the posterior with 1, 2 and 8 threads, the log
 // density sharing its sources among the threads no walker keeps busy (as a fit does), and
-// checks that the walkers end in the same state, bit for bit.
+// checks that the walkers end in the same state, bit for bit: without a selection, and with
+// one (each evaluation's normaliser kept with its state), in the plane and with the layer.
 func TestChainSameForAnyThreadCount(t *testing.T) {
-	c := indexedCases[0]
+	for _, c := range indexedCases {
+		if c.name != "gaussian" && !c.selection {
+			continue
+		}
+		t.Run(c.name, func(t *testing.T) { chainSameForAnyThreadCount(t, c) })
+	}
+}
+
+func chainSameForAnyThreadCount(t *testing.T, c indexedCase) {
 	spec := indexedSpec(t, c)
 	L, _ := indexedBuild(t, c, spec, indexedSources(70, 3))
 	p := indexedPosterior(t, c, L)
