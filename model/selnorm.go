@@ -39,9 +39,10 @@ import (
 //     at its ends and its kink, the field over [−π, π] with breakpoints where the radial
 //     line passes the Sun and touches the circles DMin, DMax.
 //
-// Measured against brute-force integrals (testdata/selnorm) the values are within 3e-6 of
-// Z_m; a field and two arms cost 8 000 (whole sky) to 30 000 plane points, half of them
-// the field's (BenchmarkNormalisationCases).
+// Measured against brute-force integrals (testdata/selnorm) the values are within 7e-6 of
+// Z_m; a field and two arms cost 4 500 (whole sky) to 20 000 plane points, a third to half
+// of them the field's (BenchmarkNormalisationCases). The field's share depends on R0, the
+// disk and the layer only, and a normaliser takes it again while they are unchanged.
 //
 // The density is the one the likelihood's numerator uses (arms.Density: the same widths,
 // end factors and kink), so that the departure of ∫ ρ_m dA from one cancels.
