@@ -67,6 +67,8 @@ const (
 	// layerReach is how far from the mid-plane, in scale heights, the layer is integrated:
 	// its share beyond is 1e-19.
 	layerReach = 9.0
+	// underflowU is where the normal density underflows: exp(−u²/2) is 0 for u beyond it.
+	underflowU = 38.61
 	// bandReach is how far from the mid-plane, in scale heights, a band edge is looked for
 	// above a plane point: beyond it the layer's share is 4e-11, and a point whose edge lies
 	// farther is taken as wholly in or wholly out of the band.
@@ -473,13 +475,15 @@ func (n *normaliser) layerShare(a, b float64, second bool) (m0, m2 float64) {
 		return m0, 0
 	}
 	const invSqrt2Pi = 0.3989422804014327
-	f1, f2 := invSqrt2Pi*fastexp.Exp(-0.5*u1*u1), invSqrt2Pi*fastexp.Exp(-0.5*u2*u2)
-	g1, g2 := u1*f1, u2*f2
-	if math.IsInf(u1, 0) {
-		g1 = 0
+	// φ(u) underflows to 0 beyond |u| = 38.61 (e^{−745.14}): no exponential is needed there.
+	var f1, f2, g1, g2 float64
+	if u1 > -underflowU {
+		f1 = invSqrt2Pi * fastexp.Exp(-0.5*u1*u1)
+		g1 = u1 * f1
 	}
-	if math.IsInf(u2, 0) {
-		g2 = 0
+	if u2 < underflowU {
+		f2 = invSqrt2Pi * fastexp.Exp(-0.5*u2*u2)
+		g2 = u2 * f2
 	}
 	h, zs := n.h, n.zsun
 	// z = H u − z⊙: ∫ z² = H² ∫ u² φ − 2 H z⊙ ∫ u φ + z⊙² ∫ φ.
