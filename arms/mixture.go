@@ -139,13 +139,19 @@ func (m *Mixer) At(R, beta float64) (F, S float64) {
 			if bn < a.kink {
 				lnRk, cs = a.a1-a.t1*bn, a.cos1
 			}
-			// |x| = |R − R_k| cos ψ / w, and with Δ = |ln R − ln R_k| ≥ e > 0, e ≤ 1,
-			// |R − R_k| ≥ R (1 − e^−Δ) ≥ R e (1 − e/2).
-			e := math.Abs(lnRk-lnR) - logApproxErr
-			if e > 1 {
-				e = 1
+			// |x| = |R − R_k| cos ψ / w, and with Δ = |ln R − ln R_k| ≥ e > 0, |R − R_k| is
+			// R (e^Δ − 1) ≥ R e (1 + e/2) beyond the centre line, R (1 − e^−Δ) ≥
+			// R e (1 − e/2) inside it (e ≤ 1; 1 − e^−Δ ≥ 1/2 for larger e).
+			dl := lnRk - lnR
+			e := math.Abs(dl) - logApproxErr
+			k := 1 + 0.5*e
+			if dl < 0 {
+				if e > 1 {
+					e = 1
+				}
+				k = 1 - 0.5*e
 			}
-			if y := r * e * (1 - 0.5*e) * cs * invW; e > 0 && y*y > lim {
+			if y := r * e * k * cs * invW; e > 0 && y*y > lim {
 				continue
 			}
 			x := (r - fastexp.Exp(lnRk)) * cs * invW
