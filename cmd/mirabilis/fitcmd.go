@@ -28,7 +28,9 @@ membership, with each source's distance integrated out — by sampling the poste
 with an affine-invariant ensemble sampler.
 
 First each source's distance quadrature is laid out at pilot parameter sets and the
-maximum a posteriori point is found; then the walkers start around it. Progress is
+maximum a posteriori point is searched for, within a budget of evaluations (the log
+says when the search stops there, at the best point found); then the walkers start
+around it. Progress is
 shown on the terminal (step, acceptance, autocorrelation time, time left), as plain
 lines when the output is not a terminal.
 

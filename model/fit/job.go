@@ -126,11 +126,12 @@ type PilotResult struct {
 }
 
 // Pilot lays out the quadratures and finds the MAP point (package model, Quadrature): panels are
-// built at the starting point; the MAP is found with them; the panels are rebuilt at the
-// start and the MAP, and the MAP refined; finally the panels are built at the start, the
+// built at the starting point; the MAP is searched for with them; the panels are rebuilt at
+// the start and the MAP, and the MAP refined; finally the panels are built at the start, the
 // MAP and ten draws around it with the expected posterior spreads (the configuration's
-// pilot_spread, or the Laplace approximation's). threads lays out that many sources at
-// once and evaluates the Laplace approximation's points; the result does not depend on
+// pilot_spread, or the Laplace approximation's). Each search stops at its budget (see
+// mapBudget), the MAP then being the best point found. threads lays out that many sources
+// at once and evaluates the Laplace approximation's points; the result does not depend on
 // it. seed fixes the draws.
 func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult, error) {
 	start := j.Start()
@@ -169,28 +170,20 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
-		// A search that has not settled continues once from where it stopped with twice
-		// the budget; if it still has not, the point is reported as the best found.
-		budget := 100 * (len(x) + 1) / round
-		for attempt := 0; ; attempt++ {
-			found, err := mcmc.FindMAP(logDensity, x, &mcmc.MAPSettings{Scale: mapScales(spreads, x), MaxEvaluations: budget, Restarts: 4})
-			if cerr := ctx.Err(); cerr != nil {
-				return nil, cerr
-			}
-			if err != nil {
-				return nil, fmt.Errorf("finding the MAP: %w", err)
-			}
-			x, lp, res.MAPConverged = found.X, found.LogDensity, found.Converged
-			if found.Converged {
-				j.logf("MAP search round %d: log posterior %.3f after %d evaluations; converged (a restart gained %.1e)", round, lp, found.Evaluations, found.LastGain)
-				break
-			}
-			if attempt == 1 {
-				j.logf("MAP search round %d: log posterior %.3f after %d evaluations; NOT converged (the last search gained %.2g): the reported point is the best found, not a maximum", round, lp, found.Evaluations, found.LastGain)
-				break
-			}
-			budget *= 2
-			j.logf("MAP search round %d: log posterior %.3f after %d evaluations, not settled (the last search gained %.2g); continuing with %d evaluations", round, lp, found.Evaluations, found.LastGain, budget)
+		budget := mapBudget * (len(x) + 1) / round
+		found, err := mcmc.FindMAP(logDensity, x, &mcmc.MAPSettings{Scale: mapScales(spreads, x), MaxEvaluations: budget, Restarts: 4})
+		if cerr := ctx.Err(); cerr != nil {
+			return nil, cerr
+		}
+		if err != nil {
+			return nil, fmt.Errorf("finding the MAP: %w", err)
+		}
+		x, lp, res.MAPConverged = found.X, found.LogDensity, found.Converged
+		if found.Converged {
+			j.logf("MAP search round %d: log posterior %.3f after %d evaluations; converged (a restart gained %.1e)", round, lp, found.Evaluations, found.LastGain)
+		} else {
+			j.logf("MAP search round %d: log posterior %.3f after %d evaluations, its budget; NOT converged (the last search gained %.2g): the best point found, not a maximum, serves as the MAP",
+				round, lp, found.Evaluations, found.LastGain)
 		}
 		if round == 1 {
 			inner, err := j.flagInner(x)
@@ -250,6 +243,16 @@ func (j *Job) Pilot(ctx context.Context, seed uint64, threads int) (*PilotResult
 	res.MAP, res.MAPLogDensity, res.Spread, res.Pilots, res.Stats = x, lp, spread, pilots, st
 	return res, nil
 }
+
+// mapBudget bounds the evaluations of the pilot stage's first search for the MAP point, in
+// units of the number of sampled coordinates plus one; the second search, from the first's
+// point on the rebuilt quadratures, has half as many. The walkers start around the point
+// found and the quadratures are laid out there and at draws about it: for both, a point
+// within a small part of the posterior's width (about n/2 in ln density for n coordinates)
+// of the maximum serves as well as the maximum itself. In tens of dimensions Nelder–Mead
+// reaches that within about this budget and then creeps for thousands of evaluations
+// more, which cost more than the sampler's burn-in would spend on the difference.
+const mapBudget = 60
 
 // flagInner returns the names of the sources whose distance lies inside R_inner with
 // probability above one half at sampled point x.
