@@ -10,28 +10,8 @@ import (
 	"github.com/mirabilis-astro/mirabilis/internal/mocktest"
 )
 
-// selectedSurvey is a survey limited as a northern VLBI array and a flux limit would limit
-// it: declinations above −30° and a completeness that halves at 9 kpc (MODEL.md §9). No source
-// carries its arm in the catalog: the mock writes arms only for arm sources, a choice that
-// depends on the component and that the likelihood does not model.
-const selectedSurvey = `
-[selection]
-declination = [-30, 90]
-completeness = { half_distance = 9.0, softness = 1.0 }
-
-[survey]
-sources = %d
-seed = %d
-fractions = { field = 0.15 }
-parallax_error = [0.008, 0.003]
-proper_motion_error = [0.03, 0.015]
-velocity_error = 3
-labelled = 0
-galactic_share = 0.1
-missing_share = 0.05
-`
-
-// TestRecoveryUnderSelection fits one declination- and distance-limited mock twice: with the
+// TestRecoveryUnderSelection fits one declination- and distance-limited mock
+// (testdata/mock/selected-survey.toml) twice: with the
 // survey's selection, when every global parameter's truth (the layer's scale height and the
 // field's fraction of the Galaxy included) and every arm's radius and pitch must lie inside
 // its 95% interval; and without it, when the field's fraction must come out biased (the
@@ -58,7 +38,11 @@ func TestRecoveryUnderSelection(t *testing.T) {
 	dir := t.TempDir()
 	sampler := fmt.Sprintf("\n[sampler]\nwalkers = 40\nsteps = %d\nburn = %d\ncheckpoint_every = 500\nseed = 3\n", steps, steps/2)
 	selection := "\n[selection]\ndeclination = [-30, 90]\ncompleteness = { half_distance = 9.0, softness = 1.0 }\n"
-	with, m := mocktest.Catalog(t, dir, fmt.Sprintf(selectedSurvey, n, seed), sampler+selection, SpecFromConfig)
+	survey, err := os.ReadFile(mocktest.File("selected-survey.toml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	with, m := mocktest.Catalog(t, dir, string(survey)+fmt.Sprintf("sources = %d\nseed = %d\n", n, seed), sampler+selection, SpecFromConfig)
 	without := filepath.Join(dir, "without.toml")
 	body, err := os.ReadFile(with)
 	if err != nil {

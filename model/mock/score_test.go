@@ -3,6 +3,7 @@ package mock
 import (
 	"fmt"
 	"math"
+	"os"
 	"strings"
 	"testing"
 
@@ -14,27 +15,8 @@ import (
 	"github.com/mirabilis-astro/mirabilis/model/fit"
 )
 
-// scoreSurvey is the survey of the score test: the two-armed galaxy in its 30 pc layer, seen
-// from declinations above −30° with a completeness that halves at 9 kpc, measured as well as
-// the recovery tests' surveys. No arm is written in the catalog (see TestRecoveryUnderSelection).
-const scoreSurvey = `
-[selection]
-declination = [-30, 90]
-completeness = { half_distance = 9.0, softness = 1.0 }
-
-[survey]
-sources = %d
-seed = 29
-fractions = { field = 0.15 }
-parallax_error = [0.008, 0.003]
-proper_motion_error = [0.03, 0.015]
-velocity_error = 3
-labelled = 0
-galactic_share = 0.1
-missing_share = 0.05
-`
-
-// TestScoreAtTruth checks that the mock and the likelihood describe the same catalogs, in
+// TestScoreAtTruth checks that the mock and the likelihood describe the same catalogs (the
+// survey of testdata/mock/selected-survey.toml, 20,000 sources), in
 // every parameter at once, through the score test (Rao 1948, Proc. Camb. Phil. Soc. 44, 50):
 // at the true parameters θ₀ the score S = Σ_i ∇ ln L_i(θ₀) of n independent sources has mean
 // zero and covariance F = n·E[∇ ln L_i ∇ ln L_iᵀ], so that Sᵀ F̂⁻¹ S, with F̂ the sum of the
@@ -54,7 +36,11 @@ func TestScoreAtTruth(t *testing.T) {
 	if testing.Short() {
 		n = 4000
 	}
-	m, err := Parse(testGalaxy(t, fmt.Sprintf(scoreSurvey, n)), "galaxy.toml", t.TempDir())
+	survey, err := os.ReadFile("../../testdata/mock/selected-survey.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	m, err := Parse(testGalaxy(t, string(survey)+fmt.Sprintf("sources = %d\nseed = 29\n", n)), "galaxy.toml", t.TempDir())
 	if err != nil {
 		t.Fatal(err)
 	}
