@@ -615,6 +615,7 @@ func TestDecodeErrors(t *testing.T) {
 		msg  string
 	}{
 		{"catalog = \"s.csv\"\nseeds = 3\n", 2, "seeds", "unknown setting; known at the top level: catalog, output, rotation"},
+		{"catalog = \"s.csv\"\n\n[survey]\nsources = 150\n", 3, "survey", "[survey] describes a mock for \"mirabilis simulate\""},
 		{"catalog = \"s.csv\"\n[sampler]\nmoves = { stretch = 1, diferential_evolution = 0.5 }\n", 3, "sampler.moves.diferential_evolution", "did you mean differential_evolution?"},
 		// Only the method's published name is known; other spellings get the list.
 		{"catalog = \"s.csv\"\n[sampler]\nmoves = { stretch = 1, de_move = 0.5 }\n", 3, "sampler.moves.de_move", "unknown setting; known in [sampler.moves]: stretch, differential_evolution, walk"},

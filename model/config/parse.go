@@ -680,6 +680,10 @@ func suggest(key string) string {
 	if last == "errors" {
 		return " (did you mean error_model?)"
 	}
+	if len(table) == 0 && last == "survey" {
+		// A mock's description (mirabilis simulate) is a fit's configuration plus [survey].
+		return ": [survey] describes a mock for \"mirabilis simulate\"; leave it out of a fit's configuration"
+	}
 	known := knownKeys(table)
 	if s := didYouMean(last, known); s != "" {
 		return s
