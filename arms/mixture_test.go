@@ -6,6 +6,31 @@ import (
 	"testing"
 )
 
+// mixerLayouts are the layouts of the Mixer tests: testArms (multi-turn, kinked, short and
+// leading arms) as they are, and with a width slope and an end softening wide enough that
+// both end factors of a winding are below one at once.
+func mixerLayouts() []Layout {
+	return []Layout{
+		{Arms: testArms(), R0: testR0},
+		{Arms: testArms(), R0: testR0, WidthSlope: 0.03, EdgeSoftening: 20 * deg},
+	}
+}
+
+// mixerPoint draws a point (R, β) uniform over the disk within 16 kpc, or, near, within 12
+// widths of one of a random arm's windings, where the winding's Gaussian is neither 1 nor
+// negligible.
+func mixerPoint(r *rand.Rand, lay Layout, near bool) (R, beta float64) {
+	R = 16 * math.Sqrt(r.Float64())
+	beta = 2 * math.Pi * (r.Float64() - 0.5)
+	if near {
+		a := lay.Arms[r.IntN(len(lay.Arms))]
+		first, last := a.Windings(beta, lay.soft())
+		n := first + r.IntN(last-first+1)
+		R = math.Abs(a.Radius(beta+twoPi*float64(n)) + 12*a.Width*(2*r.Float64()-1))
+	}
+	return R, beta
+}
+
 // TestMixerMatchesDensities checks Mixer against Σ f_m ρ_m from Densities, at random
 // points over the whole disk, for testArms (multi-turn, kinked, short and leading arms)
 // with and without a width slope and with a wide end softening, so that both end factors
@@ -18,10 +43,7 @@ import (
 // an arm, where a winding's Gaussian is neither 1 nor negligible.
 func TestMixerMatchesDensities(t *testing.T) {
 	r := rand.New(rand.NewPCG(4, 9))
-	for _, lay := range []Layout{
-		{Arms: testArms(), R0: testR0},
-		{Arms: testArms(), R0: testR0, WidthSlope: 0.03, EdgeSoftening: 20 * deg},
-	} {
+	for _, lay := range mixerLayouts() {
 		d, err := NewDensity(lay)
 		if err != nil {
 			t.Fatal(err)
@@ -39,14 +61,7 @@ func TestMixerMatchesDensities(t *testing.T) {
 			m.Reset(d, f)
 			dens := make([]float64, len(f))
 			for i := range 20000 {
-				R := 16 * math.Sqrt(r.Float64())
-				beta := 2 * math.Pi * (r.Float64() - 0.5)
-				if i%2 == 1 {
-					a := lay.Arms[r.IntN(len(lay.Arms))]
-					first, last := a.Windings(beta, lay.soft())
-					n := first + r.IntN(last-first+1)
-					R = math.Abs(a.Radius(beta+twoPi*float64(n)) + 12*a.Width*(2*r.Float64()-1))
-				}
+				R, beta := mixerPoint(r, lay, i%2 == 1)
 				d.Densities(dens, R, beta)
 				var want float64
 				for m, v := range dens {
@@ -97,10 +112,7 @@ func TestLogApprox(t *testing.T) {
 // most 12 windings at these points), and by the rounding of a sum in another order. Points lie within 12 widths of an arm or anywhere on the disk.
 func TestMixerLeavesOutNegligible(t *testing.T) {
 	r := rand.New(rand.NewPCG(7, 3))
-	for _, lay := range []Layout{
-		{Arms: testArms(), R0: testR0},
-		{Arms: testArms(), R0: testR0, WidthSlope: 0.03, EdgeSoftening: 20 * deg},
-	} {
+	for _, lay := range mixerLayouts() {
 		d, err := NewDensity(lay)
 		if err != nil {
 			t.Fatal(err)
@@ -119,14 +131,7 @@ func TestMixerLeavesOutNegligible(t *testing.T) {
 			}
 			left := 0
 			for i := range 20000 {
-				R := 16 * math.Sqrt(r.Float64())
-				beta := 2 * math.Pi * (r.Float64() - 0.5)
-				if i%2 == 1 {
-					a := lay.Arms[r.IntN(len(lay.Arms))]
-					first, last := a.Windings(beta, lay.soft())
-					n := first + r.IntN(last-first+1)
-					R = math.Abs(a.Radius(beta+twoPi*float64(n)) + 12*a.Width*(2*r.Float64()-1))
-				}
+				R, beta := mixerPoint(r, lay, i%2 == 1)
 				_, got := cut.At(R, beta)
 				_, want := full.At(R, beta)
 				if got != want {
