@@ -187,25 +187,6 @@ func (m *Mixer) At(R, beta float64) (F, S float64) {
 // edgeReach is the u beyond which e^−u is below half a unit in the last place of 1.
 const edgeReach = 37
 
-// edgeSteps is edge((β_n − start)/τ, (end − β_n)/τ) with e^−v = exp(−Δβ/τ)/e^−u, so that one
-// exponential gives both end factors (u + v = Δβ/τ).
-func (d *Density) edgeSteps(c *armConst, bn float64) float64 {
-	u := (bn - c.start) * d.invSoft
-	v := (c.end - bn) * d.invSoft
-	p, q := 1.0, 1.0
-	switch {
-	case u < 37:
-		eu := fastexp.Exp(-u)
-		p += eu
-		if v < 37 {
-			q += c.edgeSpan / eu
-		}
-	case v < 37:
-		q += fastexp.Exp(-v)
-	}
-	return 1 / (p * q)
-}
-
 // logApproxErr bounds |logApprox(x) − ln x|.
 const logApproxErr = 1e-5
 
